@@ -35,15 +35,22 @@ type Dataset struct {
 	Re, Im []float64
 	// Weight is 1/σ² in Jy⁻², σ per real and per imaginary part.
 	Weight []float64
-	// Freq is the frequency of each row in Hz; nil when every row is at
-	// Meta.Freq.
-	Freq []float64
+	// Freqs lists the distinct row frequencies in Hz and FreqIndex gives,
+	// for each row, the index of its frequency in Freqs. FreqIndex is nil
+	// when every row is at Meta.Freq. Use FreqAt to read a row's frequency.
+	// Storing an index rather than a float64 per row keeps a dataset near
+	// 64 bytes per visibility; Freqs is short (one entry per channel) and
+	// is the natural input for grouping rows by frequency.
+	Freqs     []float64
+	FreqIndex []uint32
 	// Time is the time stamp of each row in seconds; nil when absent.
 	Time []float64
-	// Ant1, Ant2, Spw and Chan identify a row's baseline and channel; nil
+	// Ant1, Ant2 (antenna numbers, 0 to 32767), Spw (spectral window, 0 to
+	// 32767) and Chan (channel) identify a row's baseline and channel; nil
 	// when absent.
-	Ant1, Ant2 []int32
-	Spw, Chan  []int32
+	Ant1, Ant2 []int16
+	Spw        []int16
+	Chan       []int32
 	// Flag marks rows kept out of fits and images (but counted); nil when
 	// the table had no flag column.
 	Flag []bool
@@ -58,10 +65,19 @@ func (d *Dataset) Flagged(k int) bool { return d.Flag != nil && d.Flag[k] }
 // FreqAt returns the frequency of row k in Hz: the row's own frequency when
 // the table has a freq column, otherwise Meta.Freq.
 func (d *Dataset) FreqAt(k int) float64 {
-	if d.Freq != nil {
-		return d.Freq[k]
+	if d.FreqIndex != nil {
+		return d.Freqs[d.FreqIndex[k]]
 	}
 	return d.Meta.Freq
+}
+
+// Bytes returns the memory held by d's row columns in bytes (capacities,
+// not lengths), excluding the short Freqs list. Divided by Len it is the
+// cost per visibility: 48 bytes for u, v, re, im, weight plus w, and at
+// most 71 bytes with every optional column.
+func (d *Dataset) Bytes() int {
+	return 8*(cap(d.U)+cap(d.V)+cap(d.W)+cap(d.Re)+cap(d.Im)+cap(d.Weight)+cap(d.Time)) +
+		4*(cap(d.FreqIndex)+cap(d.Chan)) + 2*(cap(d.Ant1)+cap(d.Ant2)+cap(d.Spw)) + cap(d.Flag)
 }
 
 // ChunkReader yields a dataset in pieces so that tables of 10⁸ rows never
@@ -103,7 +119,8 @@ func (d *Dataset) Slice(i, j int) Dataset {
 	s := Dataset{Meta: d.Meta}
 	s.U, s.V, s.Re, s.Im, s.Weight = d.U[i:j], d.V[i:j], d.Re[i:j], d.Im[i:j], d.Weight[i:j]
 	s.W = sliceOrNil(d.W, i, j)
-	s.Freq = sliceOrNil(d.Freq, i, j)
+	s.Freqs = d.Freqs
+	s.FreqIndex = sliceOrNil(d.FreqIndex, i, j)
 	s.Time = sliceOrNil(d.Time, i, j)
 	s.Ant1 = sliceOrNil(d.Ant1, i, j)
 	s.Ant2 = sliceOrNil(d.Ant2, i, j)
