@@ -1,0 +1,288 @@
+package nufft
+
+import (
+	"fmt"
+	"math"
+)
+
+// Tolerances a Plan accepts.
+const (
+	MinTol = 1e-14
+	MaxTol = 1e-1
+)
+
+// Plan computes the type-1 and type-2 sums of the package comment for an n×n
+// grid and a set of points, to a relative ℓ2 tolerance, by the non-uniform FFT
+// of Barnett, Magland & af Klinteberg (2019).
+//
+// The fine grid is nf = 2n on a side (oversampling σ = 2); the kernel width is
+// w = ⌈log10(1/tol)⌉ + 1 fine-grid points and β = 2.30·w. Type 2 divides the
+// modes by the kernel's Fourier transform, zero-pads them onto the fine grid,
+// FFTs and interpolates at the points with the kernel; type 1 is its exact
+// adjoint (spread, FFT, truncate, divide).
+//
+// A Plan holds scratch space and is not safe for concurrent use; each call
+// uses all runtime.GOMAXPROCS(0) cores itself. Results are bit-for-bit
+// reproducible for the same points and input, whatever the number of cores.
+type Plan struct {
+	n, nf int
+	tol   float64
+	ker   esKernel
+	w     int
+	// deap[i] = 1/ψ̂(2π m/nf) for m = i − n/2: the deapodisation factor.
+	deap []float64
+	fft  *FFT2
+	fine []complex128 // nf × nf
+
+	// The padded grid holds fine-grid rows and columns −pad … nf+pad−1 so
+	// that no kernel tap needs wrapping; np = nf + 2·pad.
+	pad, np int
+	padded  []complex128
+
+	// Points, sorted into bands of hb fine-grid rows (and tiles across).
+	npts   int
+	hb     int
+	nbands int
+	tx, ty []float64 // fine-grid coordinates in [0, nf), sorted order
+	perm   []int32   // perm[sorted index] = caller's index
+	bandAt []int     // points of band b are sorted indices bandAt[b] … bandAt[b+1]−1
+
+	scratch [][]float64 // per-worker kernel weights, 2w each
+}
+
+// NewPlan returns a plan for n×n grids (n even, ≥ 2) at relative tolerance
+// tol in [MinTol, MaxTol]. Call SetPoints before transforming.
+func NewPlan(n int, tol float64) (*Plan, error) {
+	if n < 2 || n%2 != 0 {
+		return nil, fmt.Errorf("nufft: grid size %d: want an even number ≥ 2", n)
+	}
+	if !(tol >= MinTol && tol <= MaxTol) {
+		return nil, fmt.Errorf("nufft: tolerance %g: want a value in [%g, %g]", tol, MinTol, MaxTol)
+	}
+	w := widthForTol(tol)
+	p := &Plan{n: n, nf: 2 * n, tol: tol, w: w}
+	p.ker = newESKernel(w, tol/polyTolFactor)
+	xi := make([]float64, n)
+	for i := range xi {
+		xi[i] = 2 * math.Pi * float64(i-n/2) / float64(p.nf)
+	}
+	p.deap = p.ker.fourier(xi)
+	for i, v := range p.deap {
+		p.deap[i] = 1 / v
+	}
+	p.fft = NewFFT2(p.nf)
+	p.fine = make([]complex128, p.nf*p.nf)
+	p.pad = w/2 + 2
+	p.np = p.nf + 2*p.pad
+	p.padded = make([]complex128, p.np*p.np)
+	// Bands of hb rows: points of bands b and b+2 never touch the same padded
+	// row when hb ≥ w + 1, so even bands (then odd bands) spread concurrently.
+	p.hb = max(16, w+2)
+	p.nbands = (p.nf + p.hb - 1) / p.hb
+	return p, nil
+}
+
+// polyTolFactor is the ratio of the tolerance to the allowed maximum error of
+// the kernel's piecewise polynomial.
+const polyTolFactor = 20
+
+// N returns the grid size n.
+func (p *Plan) N() int { return p.n }
+
+// Width returns the kernel width w in fine-grid points.
+func (p *Plan) Width() int { return p.w }
+
+// tileWidth is the width in fine-grid columns of the tiles points are sorted
+// into within a band.
+const tileWidth = 32
+
+// SetPoints sets the points (x[k], y[k]) in radians for the following
+// transforms; any real values are allowed (the sums are 2π-periodic). The
+// plan copies what it needs: x and y may be changed afterwards.
+func (p *Plan) SetPoints(x, y []float64) {
+	if len(x) != len(y) {
+		panic(fmt.Sprintf("nufft: len(x) = %d, len(y) = %d", len(x), len(y)))
+	}
+	if len(x) > math.MaxInt32 {
+		panic("nufft: more than 2³¹−1 points")
+	}
+	m := len(x)
+	p.npts = m
+	nf := p.nf
+	ntile := (nf + tileWidth - 1) / tileWidth
+	nbin := p.nbands * ntile
+	scale := float64(nf) / (2 * math.Pi)
+	if cap(p.tx) < m {
+		p.tx = make([]float64, m)
+		p.ty = make([]float64, m)
+		p.perm = make([]int32, m)
+	}
+	p.tx, p.ty, p.perm = p.tx[:m], p.ty[:m], p.perm[:m]
+	bin := make([]int32, m)
+	count := make([]int, nbin+1)
+	for k := range m {
+		tx := wrapGrid(x[k]*scale, nf)
+		ty := wrapGrid(y[k]*scale, nf)
+		if math.IsNaN(tx) || math.IsNaN(ty) {
+			panic(fmt.Sprintf("nufft: point %d (%g, %g) is not finite", k, x[k], y[k]))
+		}
+		b := (int(ty)/p.hb)*ntile + int(tx)/tileWidth
+		bin[k] = int32(b)
+		count[b+1]++
+	}
+	for b := range nbin {
+		count[b+1] += count[b]
+	}
+	p.bandAt = make([]int, p.nbands+1)
+	for b := range p.bandAt {
+		p.bandAt[b] = count[b*ntile]
+	}
+	for k := range m {
+		b := bin[k]
+		s := count[b]
+		count[b]++
+		p.perm[s] = int32(k)
+		p.tx[s] = wrapGrid(x[k]*scale, nf)
+		p.ty[s] = wrapGrid(y[k]*scale, nf)
+	}
+}
+
+// wrapGrid maps t to [0, nf).
+func wrapGrid(t float64, nf int) float64 {
+	f := float64(nf)
+	t -= f * math.Floor(t/f)
+	if t >= f {
+		t = 0
+	}
+	return t
+}
+
+// Type2 evaluates the type-2 sum (grid → points) of the package comment,
+//
+//	dst[k] = Σ_{i,j} f[j*n+i] exp(s·i·(m1 x_k + m2 y_k)),
+//
+// with s = sign, at the points of the last SetPoints, in the caller's order.
+// dst is allocated when nil; otherwise len(dst) must be the number of points.
+func (p *Plan) Type2(dst, f []complex128, sign int) []complex128 {
+	checkGrid(p.n, len(f))
+	checkSign(sign)
+	n, nf := p.n, p.nf
+	clear(p.fine)
+	for j := range n {
+		dj := p.deap[j]
+		r := ((j - n/2) + nf) % nf
+		row := p.fine[r*nf : r*nf+nf]
+		src := f[j*n : j*n+n]
+		for i, v := range src {
+			c := ((i - n/2) + nf) % nf
+			d := dj * p.deap[i]
+			row[c] = complex(real(v)*d, imag(v)*d)
+		}
+	}
+	return p.finishType2(dst, sign)
+}
+
+// Type2Real is Type2 for a real grid f (for example a sky image).
+func (p *Plan) Type2Real(dst []complex128, f []float64, sign int) []complex128 {
+	checkGrid(p.n, len(f))
+	checkSign(sign)
+	n, nf := p.n, p.nf
+	clear(p.fine)
+	for j := range n {
+		dj := p.deap[j]
+		r := ((j - n/2) + nf) % nf
+		row := p.fine[r*nf : r*nf+nf]
+		src := f[j*n : j*n+n]
+		for i, v := range src {
+			c := ((i - n/2) + nf) % nf
+			row[c] = complex(v*dj*p.deap[i], 0)
+		}
+	}
+	return p.finishType2(dst, sign)
+}
+
+func (p *Plan) finishType2(dst []complex128, sign int) []complex128 {
+	if dst == nil {
+		dst = make([]complex128, p.npts)
+	} else if len(dst) != p.npts {
+		panic(fmt.Sprintf("nufft: dst length %d, want %d points", len(dst), p.npts))
+	}
+	n, nf := p.n, p.nf
+	// Only rows (modes m2) [0, n/2) ∪ [nf−n/2, nf) are non-zero.
+	p.fft.transform(p.fine, sign, n/2, nf-n/2, nf, nf)
+	p.wrapToPadded()
+	p.interpolate(dst)
+	return dst
+}
+
+// Type1 evaluates the type-1 sum (points → grid) of the package comment,
+//
+//	dst[j*n+i] = Σ_k c[k] exp(s·i·(m1 x_k + m2 y_k)),
+//
+// with s = sign, for the points of the last SetPoints, c in the caller's
+// order. dst is allocated when nil; otherwise len(dst) must be n*n.
+func (p *Plan) Type1(dst, c []complex128, sign int) []complex128 {
+	checkSign(sign)
+	if len(c) != p.npts {
+		panic(fmt.Sprintf("nufft: %d strengths for %d points", len(c), p.npts))
+	}
+	n, nf := p.n, p.nf
+	if dst == nil {
+		dst = make([]complex128, n*n)
+	} else if len(dst) != n*n {
+		panic(fmt.Sprintf("nufft: dst length %d, want %d", len(dst), n*n))
+	}
+	p.spread(c)
+	p.foldPadded()
+	// Only columns (modes m1) [0, n/2) ∪ [nf−n/2, nf) are needed.
+	p.fft.transform(p.fine, sign, nf, nf, n/2, nf-n/2)
+	for j := range n {
+		dj := p.deap[j]
+		r := ((j - n/2) + nf) % nf
+		row := p.fine[r*nf : r*nf+nf]
+		out := dst[j*n : j*n+n]
+		for i := range out {
+			cc := ((i - n/2) + nf) % nf
+			d := dj * p.deap[i]
+			v := row[cc]
+			out[i] = complex(real(v)*d, imag(v)*d)
+		}
+	}
+	return dst
+}
+
+// wrapToPadded copies the fine grid into the padded grid, periodically.
+func (p *Plan) wrapToPadded() {
+	nf, np, pad := p.nf, p.np, p.pad
+	parallelRange(np, func(_, lo, hi int) {
+		for q := lo; q < hi; q++ {
+			r := ((q-pad)%nf + nf) % nf
+			src := p.fine[r*nf : r*nf+nf]
+			dst := p.padded[q*np : q*np+np]
+			for c := range dst {
+				dst[c] = src[((c-pad)%nf+nf)%nf]
+			}
+		}
+	})
+}
+
+// foldPadded adds the padded grid periodically into the fine grid, in a fixed
+// order of padded rows for every fine-grid row.
+func (p *Plan) foldPadded() {
+	nf, np, pad := p.nf, p.np, p.pad
+	clear(p.fine)
+	// Padded rows q ≡ r + pad (mod nf) land on fine row r; each worker owns a
+	// range of fine rows and visits its padded rows in increasing q.
+	parallelRange(nf, func(_, lo, hi int) {
+		for r := lo; r < hi; r++ {
+			dst := p.fine[r*nf : r*nf+nf]
+			for q := (r + pad) % nf; q < np; q += nf {
+				src := p.padded[q*np : q*np+np]
+				for c, v := range src {
+					cc := ((c-pad)%nf + nf) % nf
+					dst[cc] += v
+				}
+			}
+		}
+	})
+}
