@@ -12,9 +12,9 @@ import (
 // neglected second-order term ½ sin δ0 cos δ0 Δα² is 4e-6 arcsec here.
 func TestProjectSmallOffsets(t *testing.T) {
 	for _, tc := range []struct {
-		name             string
+		name              string
 		ra0, dec0, dx, dy float64 // dx, dy in arcsec of RA and Dec
-		wantX, wantY     float64
+		wantX, wantY      float64
 	}{
 		{"north at equator", 150, 0, 0, 1, 0, 1},
 		{"east at equator", 150, 0, 1, 0, 1, 0},
