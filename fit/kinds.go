@@ -1,5 +1,11 @@
 package fit
 
+import (
+	"fmt"
+	"strconv"
+	"strings"
+)
+
 // A paramDef describes one parameter of a model component: its key in the
 // model file, its unit and meaning, and its default when omitted (required
 // parameters have none).
@@ -106,4 +112,45 @@ func kindNames(kinds []kindDef) []string {
 		s[i] = k.name
 	}
 	return s
+}
+
+// KindsHelp returns the reference table of every lens and source kind and
+// its parameters, with units and defaults, as printed by "deflect fit -h
+// kinds" and kept in README.md.
+func KindsHelp() string {
+	var b strings.Builder
+	b.WriteString("Parameters: a number fixes a value; a table such as {min = 0, max = 1} frees it\n")
+	b.WriteString("(prior = \"uniform\" (default), \"normal\" with mean and sd, or \"log-uniform\";\n")
+	b.WriteString("start sets the starting value; {same_as = \"name.key\"} ties it to another).\n")
+	for _, group := range []struct {
+		title string
+		kinds []kindDef
+	}{{"[[lens]] kinds", lensKinds}, {"[[source]] kinds", sourceKinds}} {
+		fmt.Fprintf(&b, "\n%s\n", group.title)
+		for _, k := range group.kinds {
+			fmt.Fprintf(&b, "\n  kind = %q — %s\n", k.name, k.doc)
+			for _, p := range k.params {
+				def := "required"
+				if !p.required {
+					def = "default " + strconv.FormatFloat(p.def, 'g', -1, 64)
+				}
+				unit := p.unit
+				if unit == "" {
+					unit = "—"
+				}
+				fmt.Fprintf(&b, "    %-9s %-7s %-17s %s\n", p.key, unit, def, p.doc)
+			}
+			for _, s := range k.settings {
+				fmt.Fprintf(&b, "    %-9s %-7s %-17s %s\n", s.key, "setting", "", s.doc)
+			}
+			if len(k.alternatives) > 0 {
+				groups := make([]string, len(k.alternatives))
+				for i, alt := range k.alternatives {
+					groups[i] = strings.Join(alt, " and ")
+				}
+				fmt.Fprintf(&b, "    (give %s)\n", strings.Join(groups, ", or "))
+			}
+		}
+	}
+	return b.String()
 }

@@ -36,6 +36,9 @@ type Sky struct {
 	Pixel  float64 // arcsec
 	Size   int     // pixels on a side, even
 	X0, Y0 float64 // grid centre, arcsec east and north of the phase centre
+	// RefFreq is the frequency in Hz at which source fluxes are quoted and
+	// spectral indices pivot; 0 means the first dataset's frequency.
+	RefFreq float64
 }
 
 // Data is one [[data]] table.
@@ -321,7 +324,13 @@ func (p *modelParser) str(t *table, key, where string) (string, int, bool) {
 }
 
 func (p *modelParser) parseSky(t *table) {
-	p.checkKeys(t, "[sky]", []string{"pixel", "size", "x0", "y0"})
+	p.checkKeys(t, "[sky]", []string{"pixel", "size", "x0", "y0", "ref_freq"})
+	if x, line, ok := p.number(t, "ref_freq", "[sky]"); ok {
+		if x <= 0 {
+			p.errorf(line, "[sky] ref_freq", "expected a frequency > 0 Hz, found %v", x)
+		}
+		p.m.Sky.RefFreq = x
+	}
 	if x, line, ok := p.number(t, "pixel", "[sky]"); ok {
 		if x <= 0 {
 			p.errorf(line, "[sky] pixel", "expected a pixel size > 0 arcsec, found %v", x)

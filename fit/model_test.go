@@ -197,3 +197,19 @@ func FuzzParseModel(f *testing.F) {
 		}
 	})
 }
+
+func TestKindsHelpListsEveryParameter(t *testing.T) {
+	h := KindsHelp()
+	for _, kinds := range [][]kindDef{lensKinds, sourceKinds} {
+		for _, k := range kinds {
+			if !strings.Contains(h, `kind = "`+k.name+`"`) {
+				t.Errorf("kinds help lacks kind %q", k.name)
+			}
+			for _, p := range k.params {
+				if !strings.Contains(h, "    "+p.key+" ") {
+					t.Errorf("kinds help lacks %s.%s", k.name, p.key)
+				}
+			}
+		}
+	}
+}
