@@ -13,19 +13,26 @@ const (
 	maxDeg   = 24
 )
 
+// nsub is the number of sub-intervals of each unit grid interval on which
+// the kernel gets its own polynomial: all w taps of a point share the same
+// fractional offset, hence the same sub-interval, and shorter pieces need a
+// lower degree.
+const nsub = 8
+
 // esKernel is the "exponential of semicircle" kernel of Barnett, Magland &
 // af Klinteberg (2019, eq. 1.8) in fine-grid units,
 //
 //	ψ(u) = φ(2u/w),   φ(z) = exp(β(√(1 − z²) − 1)),   |u| ≤ w/2,
 //
-// with its piecewise-polynomial approximation: on each of the w unit intervals
-// of [−w/2, w/2] a polynomial of degree deg in the local variable z ∈ [−1, 1).
+// with its piecewise-polynomial approximation: each of the w unit intervals of
+// [−w/2, w/2] is cut into nsub pieces, and on each piece ψ is a polynomial of
+// degree deg in a local variable z ∈ [−1, 1].
 type esKernel struct {
 	w    int
 	beta float64
 	deg  int
-	// coef[d*w+a] is the coefficient of z^(deg−d) on interval a, highest
-	// degree first, for Horner's rule.
+	// coef[(k*(deg+1)+d)*w+a] is the coefficient of z^(deg−d) for tap a on
+	// sub-interval k, highest degree first, for Horner's rule.
 	coef []float64
 }
 
@@ -38,10 +45,10 @@ func widthForTol(tol float64) int {
 
 // newESKernel builds the kernel of width w with β = 2.30·w (Barnett et al.
 // 2019, §3.1.1) and fits the lowest polynomial degree whose maximum error on
-// every interval is at most polyTol (or the best reachable degree).
+// every piece is at most polyTol (or the best reachable degree).
 func newESKernel(w int, polyTol float64) esKernel {
 	k := esKernel{w: w, beta: 2.30 * float64(w)}
-	for deg := 2; deg <= maxDeg; deg++ {
+	for deg := 1; deg <= maxDeg; deg++ {
 		k.fit(deg)
 		if k.maxPolyError() <= polyTol {
 			return k
@@ -59,14 +66,20 @@ func (k *esKernel) exact(u float64) float64 {
 	return math.Exp(k.beta * (math.Sqrt(1-z*z) - 1))
 }
 
-// fit sets coef to the degree-deg Chebyshev interpolant of ψ on each interval,
-// rewritten in monomials. On interval a, u = a − w/2 + (z+1)/2.
+// tapArg returns the kernel argument u of tap a for the fractional offset
+// frac ∈ [0, 1] (see weights): u = a − w/2 + frac.
+func (k *esKernel) tapArg(a int, frac float64) float64 {
+	return float64(a) - float64(k.w)/2 + frac
+}
+
+// fit sets coef to the degree-deg Chebyshev interpolant of ψ on each piece,
+// rewritten in monomials of the local variable z: on sub-interval j the
+// fractional offset is frac = (j + (z+1)/2)/nsub.
 func (k *esKernel) fit(deg int) {
 	w := k.w
 	nc := deg + 1
 	k.deg = deg
-	k.coef = make([]float64, nc*w)
-	hw := float64(w) / 2
+	k.coef = make([]float64, nsub*nc*w)
 	// Monomial coefficients of the Chebyshev polynomials T_0 … T_deg.
 	tmono := make([][]float64, nc)
 	for d := range nc {
@@ -87,67 +100,77 @@ func (k *esKernel) fit(deg int) {
 	}
 	vals := make([]float64, nc)
 	cheb := make([]float64, nc)
-	for a := range w {
-		for j := range nc {
-			z := math.Cos(math.Pi * (float64(j) + 0.5) / float64(nc))
-			vals[j] = k.exact(float64(a) - hw + (z+1)/2)
-		}
-		for d := range nc {
-			var s float64
-			for j := range nc {
-				s += vals[j] * math.Cos(math.Pi*float64(d)*(float64(j)+0.5)/float64(nc))
+	for j := range nsub {
+		for a := range w {
+			for q := range nc {
+				z := math.Cos(math.Pi * (float64(q) + 0.5) / float64(nc))
+				vals[q] = k.exact(k.tapArg(a, (float64(j)+(z+1)/2)/nsub))
 			}
-			cheb[d] = 2 * s / float64(nc)
-		}
-		cheb[0] /= 2
-		for p := range nc {
-			var s float64
 			for d := range nc {
-				s += cheb[d] * tmono[d][p]
+				var s float64
+				for q := range nc {
+					s += vals[q] * math.Cos(math.Pi*float64(d)*(float64(q)+0.5)/float64(nc))
+				}
+				cheb[d] = 2 * s / float64(nc)
 			}
-			k.coef[(deg-p)*w+a] = s
+			cheb[0] /= 2
+			for p := range nc {
+				var s float64
+				for d := range nc {
+					s += cheb[d] * tmono[d][p]
+				}
+				k.coef[(j*nc+deg-p)*w+a] = s
+			}
 		}
 	}
 }
 
 // maxPolyError returns the largest |poly − ψ| over a fine sampling of every
-// interval.
+// piece.
 func (k *esKernel) maxPolyError() float64 {
-	const samples = 64
+	const samples = 16 * nsub
 	ker := make([]float64, k.w)
-	hw := float64(k.w) / 2
 	var worst float64
 	for s := 0; s <= samples; s++ {
-		z := -1 + 2*float64(s)/samples
-		k.horner(ker, z)
+		frac := float64(s) / samples
+		k.horner(ker, frac)
 		for a, v := range ker {
-			worst = math.Max(worst, math.Abs(v-k.exact(float64(a)-hw+(z+1)/2)))
+			worst = math.Max(worst, math.Abs(v-k.exact(k.tapArg(a, frac))))
 		}
 	}
 	return worst
 }
 
-// horner sets ker[a] = poly_a(z) for a < w.
-func (k *esKernel) horner(ker []float64, z float64) {
+// piece returns the sub-interval of frac ∈ [0, 1] and the local variable z.
+func piece(frac float64) (int, float64) {
+	f := frac * nsub
+	j := min(int(f), nsub-1)
+	return j, 2*(f-float64(j)) - 1
+}
+
+// horner sets ker[a] = poly(a − w/2 + frac) for a < w, frac ∈ [0, 1]. The
+// hot loops use the generated, unrolled forms of this in kernels_gen.go.
+func (k *esKernel) horner(ker []float64, frac float64) {
 	w := k.w
+	j, z := piece(frac)
+	c := k.coef[j*(k.deg+1)*w:]
 	ker = ker[:w]
-	copy(ker, k.coef[:w])
+	copy(ker, c[:w])
 	for d := 1; d <= k.deg; d++ {
-		c := k.coef[d*w : d*w+w]
+		cd := c[d*w : d*w+w]
 		for a := range ker {
-			ker[a] = ker[a]*z + c[a]
+			ker[a] = ker[a]*z + cd[a]
 		}
 	}
 }
 
 // weights sets ker[a] = ψ(l0 + a − t) for the w fine-grid nodes l0 … l0+w−1
-// nearest the fine-grid coordinate t and returns l0 = ⌈t − w/2⌉.
+// nearest the fine-grid coordinate t and returns l0 = ⌈t − w/2⌉. The
+// fractional offset is frac = l0 − t + w/2 ∈ [0, 1).
 func (k *esKernel) weights(ker []float64, t float64) int {
 	hw := float64(k.w) / 2
 	l0 := math.Ceil(t - hw)
-	// x1 = l0 − t ∈ [−w/2, −w/2+1); z = 2(x1 + w/2) − 1 ∈ [−1, 1).
-	z := 2*(l0-t+hw) - 1
-	k.horner(ker, z)
+	k.horner(ker, l0-t+hw)
 	return int(l0)
 }
 

@@ -35,7 +35,7 @@ func TestKernelPolynomial(t *testing.T) {
 			ker := make([]float64, w)
 			for _, tt := range []float64{0, 0.25, 3.5, 10.999, 7.0000001, -2.3} {
 				l0 := k.weights(ker, tt)
-				if d := tt - float64(l0); d > float64(w)/2 || d < float64(w)/2-1 {
+				if d := tt - float64(l0); d > float64(w)/2 || d <= float64(w)/2-1 {
 					t.Errorf("t=%g: l0=%d not ⌈t − w/2⌉", tt, l0)
 				}
 				for a, v := range ker {

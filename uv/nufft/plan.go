@@ -46,8 +46,6 @@ type Plan struct {
 	tx, ty []float64 // fine-grid coordinates in [0, nf), sorted order
 	perm   []int32   // perm[sorted index] = caller's index
 	bandAt []int     // points of band b are sorted indices bandAt[b] … bandAt[b+1]−1
-
-	scratch [][]float64 // per-worker kernel weights, 2w each
 }
 
 // NewPlan returns a plan for n×n grids (n even, ≥ 2) at relative tolerance
