@@ -50,6 +50,7 @@ type Compressed struct {
 
 	mu      sync.Mutex
 	spectra map[[2]int]*beamSpectrum
+	images  sync.Pool // *[]float64 of N², apparent-model scratch
 }
 
 // Size returns N, the number of pixels on a side of the grid.
@@ -109,23 +110,31 @@ func (c *Compressed) GainAt(i, j int) float64 { return c.gain[j*c.grid.N+i] }
 // Dirty returns a copy of the unnormalised dirty image D in FITS order.
 func (c *Compressed) Dirty() []float64 { return append([]float64(nil), c.dirty...) }
 
-// apparent returns A·img and the bounding box of its non-zero pixels.
-func (c *Compressed) apparent(img []float64) ([]float64, box) {
+// apparent returns A·img in scratch space and the bounding box of its
+// non-zero pixels; the caller returns the scratch with c.images.Put.
+func (c *Compressed) apparent(img []float64) (*[]float64, box) {
 	if len(img) != c.grid.Len() {
 		panic(fmt.Sprintf("uv: image of %d pixels, compression grid has %d", len(img), c.grid.Len()))
 	}
-	ap := make([]float64, len(img))
+	p, _ := c.images.Get().(*[]float64)
+	if p == nil {
+		s := make([]float64, len(img))
+		p = &s
+	}
+	ap := *p
 	for k, v := range img {
 		ap[k] = c.gain[k] * v
 	}
-	return ap, supportBox(ap, c.grid.N)
+	return p, supportBox(ap, c.grid.N)
 }
 
 // Chi2 returns χ²(img) for the sky image img in Jy per pixel (FITS order on
 // the compression's grid; the primary beam is applied here). Its cost is
 // that of one FFT of the model's bounding box padded to twice its size.
 func (c *Compressed) Chi2(img []float64) float64 {
-	ap, bx := c.apparent(img)
+	p, bx := c.apparent(img)
+	defer c.images.Put(p)
+	ap := *p
 	if bx.empty() {
 		return c.dataTerm
 	}
@@ -149,7 +158,9 @@ func (c *Compressed) Chi2Grad(grad, img []float64) float64 {
 	if len(grad) != len(img) {
 		panic("uv: Chi2Grad gradient length differs from the image")
 	}
-	ap, bx := c.apparent(img)
+	p, bx := c.apparent(img)
+	defer c.images.Put(p)
+	ap := *p
 	res := c.residual(grad, ap, bx)
 	chi2 := c.dataTerm
 	for k, v := range ap {
@@ -172,8 +183,9 @@ func (c *Compressed) ResidualDirty(dst, img []float64) []float64 {
 	} else if len(dst) != c.grid.Len() {
 		panic("uv: ResidualDirty destination length differs from the grid")
 	}
-	ap, bx := c.apparent(img)
-	return c.residual(dst, ap, bx)
+	p, bx := c.apparent(img)
+	defer c.images.Put(p)
+	return c.residual(dst, *p, bx)
 }
 
 func (c *Compressed) residual(dst, ap []float64, bx box) []float64 {

@@ -1,10 +1,6 @@
 package uv
 
-import (
-	"sync"
-
-	"gonum.org/v1/gonum/dsp/fourier"
-)
+import "sync"
 
 // This file holds the FFT machinery of the compressed χ²: the quadratic
 // form Σ_j Σ_j' I_j I_j' B(x_j − x_j') and the convolution B⋆I, both by
@@ -21,50 +17,35 @@ import (
 // b̂ real because B is even. The quadratic form costs one forward FFT of
 // the box, padded; b̂ depends only on (Px, Py) and is cached per size.
 
-// fftSize returns the smallest n ≥ m of the form 2^a·3^b·5^c, sizes the
-// mixed-radix FFT handles quickly.
-func fftSize(m int) int {
-	for n := max(m, 1); ; n++ {
-		k := n
-		for _, p := range []int{2, 3, 5} {
-			for k%p == 0 {
-				k /= p
-			}
-		}
-		if k == 1 {
-			return n
-		}
-	}
-}
-
 // beamSpectrum is the FFT b̂ of the circularly laid out dirty beam for one
-// padded size, and a pool of scratch space for transforms of that size.
+// padded size (powers of two), and a pool of scratch space for transforms of
+// that size.
 type beamSpectrum struct {
 	px, py int
 	nx     int       // px/2 + 1 coefficients along x
-	bhat   []float64 // b̂[kx·py + ky], real part
+	bhat   []float64 // b̂[kx·py + q], q the bit-reversed position along y
 	pool   sync.Pool // *convWork
 }
 
 // convWork is the scratch space of one transform of size px × py.
 type convWork struct {
-	rfft *fourier.FFT
-	cfft *fourier.CmplxFFT
-	row  []float64
-	rowc []complex128
-	t    []complex128 // py rows of nx coefficients, t[y·nx + kx]
-	col  []complex128
+	fx, fy *fftPow2
+	t      []complex128 // py rows of nx coefficients, t[y·nx + kx]
+	x      []complex128
+	col    []complex128
+	ra, rb []float64
 }
 
 func newConvWork(px, py int) *convWork {
 	nx := px/2 + 1
 	return &convWork{
-		rfft: fourier.NewFFT(px),
-		cfft: fourier.NewCmplxFFT(py),
-		row:  make([]float64, px),
-		rowc: make([]complex128, nx),
-		t:    make([]complex128, py*nx),
-		col:  make([]complex128, py),
+		fx:  newFFTPow2(px),
+		fy:  newFFTPow2(py),
+		t:   make([]complex128, py*nx),
+		x:   make([]complex128, max(px, py)),
+		col: make([]complex128, py),
+		ra:  make([]float64, px),
+		rb:  make([]float64, px),
 	}
 }
 
@@ -83,31 +64,35 @@ func (c *Compressed) spectrum(px, py int) *beamSpectrum {
 	s := &beamSpectrum{px: px, py: py, nx: px/2 + 1}
 	s.pool.New = func() any { return newConvWork(px, py) }
 	w := s.pool.Get().(*convWork)
-	n := c.grid.N
+	n, nx := c.grid.N, s.nx
 	// Offsets |d| ≤ ⌈P/2⌉ − 1, and at most N − 1 where B is known.
 	hx, hy := min((px+1)/2-1, n-1), min((py+1)/2-1, n-1)
-	for y := range py {
+	fill := func(row []float64, y int) {
+		clear(row)
 		dy := y
 		if y > py/2 {
 			dy = y - py
 		}
-		clear(w.row)
-		if dy >= -hy && dy <= hy {
-			for dx := -hx; dx <= hx; dx++ {
-				w.row[(dx+px)%px] = c.BeamAt(dx, dy)
-			}
+		if dy < -hy || dy > hy {
+			return
 		}
-		w.rfft.Coefficients(w.rowc, w.row)
-		copy(w.t[y*s.nx:(y+1)*s.nx], w.rowc)
+		for dx := -hx; dx <= hx; dx++ {
+			row[(dx+px)%px] = c.BeamAt(dx, dy)
+		}
 	}
-	s.bhat = make([]float64, s.nx*py)
-	for kx := range s.nx {
+	for y := 0; y < py; y += 2 {
+		fill(w.ra, y)
+		fill(w.rb, y+1)
+		w.fx.realPair(w.t[y*nx:(y+1)*nx], w.t[(y+1)*nx:(y+2)*nx], w.ra, w.rb, w.x, false)
+	}
+	s.bhat = make([]float64, nx*py)
+	for kx := range nx {
 		for y := range py {
-			w.col[y] = w.t[y*s.nx+kx]
+			w.col[y] = w.t[y*nx+kx]
 		}
-		w.cfft.Coefficients(w.col, w.col)
-		for ky, v := range w.col {
-			s.bhat[kx*py+ky] = real(v)
+		w.fy.forward(w.col, false)
+		for q, v := range w.col {
+			s.bhat[kx*py+q] = real(v)
 		}
 	}
 	s.pool.Put(w)
@@ -151,19 +136,24 @@ func supportBox(img []float64, n int) box {
 
 // quadratic returns Σ_j Σ_j' I_j I_j' B(x_j − x_j') for the apparent model
 // ap (primary beam applied) whose support is bx, by the FFT of the box
-// zero-padded to fftSize(2b − 1) on each axis.
+// zero-padded to the power of two ≥ 2b − 1 on each axis.
 func (c *Compressed) quadratic(ap []float64, bx box) float64 {
 	n := c.grid.N
 	wx, wy := bx.i1-bx.i0, bx.j1-bx.j0
-	s := c.spectrum(fftSize(2*wx-1), fftSize(2*wy-1))
+	s := c.spectrum(nextPow2(2*wx-1), nextPow2(2*wy-1))
 	w := s.pool.Get().(*convWork)
 	defer s.pool.Put(w)
 	nx, py := s.nx, s.py
-	clear(w.row)
-	for y := range wy {
-		copy(w.row[:wx], ap[(bx.j0+y)*n+bx.i0:])
-		w.rfft.Coefficients(w.rowc, w.row)
-		copy(w.t[y*nx:(y+1)*nx], w.rowc)
+	for y := 0; y < wy; y += 2 {
+		r := (bx.j0 + y) * n
+		a := ap[r+bx.i0 : r+bx.i1]
+		var b []float64
+		var cb []complex128
+		if y+1 < wy {
+			b = ap[r+n+bx.i0 : r+n+bx.i1]
+			cb = w.t[(y+1)*nx : (y+2)*nx]
+		}
+		w.fx.realPair(w.t[y*nx:(y+1)*nx], cb, a, b, w.x, true)
 	}
 	var sum float64
 	for kx := range nx {
@@ -171,15 +161,15 @@ func (c *Compressed) quadratic(ap []float64, bx box) float64 {
 			w.col[y] = w.t[y*nx+kx]
 		}
 		clear(w.col[wy:])
-		w.cfft.Coefficients(w.col, w.col)
+		w.fy.forward(w.col, true)
 		bh := s.bhat[kx*py : (kx+1)*py]
 		var part float64
-		for ky, v := range w.col {
-			part += bh[ky] * (real(v)*real(v) + imag(v)*imag(v))
+		for q, v := range w.col {
+			part += bh[q] * (real(v)*real(v) + imag(v)*imag(v))
 		}
 		// Coefficients kx and px − kx are conjugates of each other; only
-		// kx = 0 and, for even px, kx = px/2 are their own partners.
-		if kx == 0 || (s.px%2 == 0 && kx == s.px/2) {
+		// kx = 0 and kx = px/2 are their own partners.
+		if kx == 0 || kx == s.px/2 {
 			sum += part
 		} else {
 			sum += 2 * part
@@ -189,42 +179,41 @@ func (c *Compressed) quadratic(ap []float64, bx box) float64 {
 }
 
 // convolve sets dst to (B⋆ap)_j = Σ_j' B(x_j − x_j') ap_j' on the whole
-// N×N grid, for the apparent model ap with support bx. It pads to
-// fftSize(2N − 1) so that every offset of the grid is represented once.
+// N×N grid, for the apparent model ap with support bx. It pads to the power
+// of two ≥ 2N − 1 so that every offset of the grid is represented once.
 func (c *Compressed) convolve(dst, ap []float64, bx box) {
 	n := c.grid.N
-	p := fftSize(2*n - 1)
+	p := nextPow2(2*n - 1)
 	s := c.spectrum(p, p)
 	w := s.pool.Get().(*convWork)
 	defer s.pool.Put(w)
 	nx := s.nx
 	clear(w.t)
-	clear(w.row)
-	for j := bx.j0; j < bx.j1; j++ {
-		copy(w.row[bx.i0:bx.i1], ap[j*n+bx.i0:j*n+bx.i1])
-		w.rfft.Coefficients(w.rowc, w.row)
-		copy(w.t[j*nx:(j+1)*nx], w.rowc)
+	for y := bx.j0 &^ 1; y < bx.j1; y += 2 {
+		w.fx.realPair(w.t[y*nx:(y+1)*nx], w.t[(y+1)*nx:(y+2)*nx],
+			ap[y*n:(y+1)*n], ap[(y+1)*n:(y+2)*n], w.x, true)
 	}
 	for kx := range nx {
-		for y := range p {
+		for y := range n {
 			w.col[y] = w.t[y*nx+kx]
 		}
-		w.cfft.Coefficients(w.col, w.col)
+		clear(w.col[n:])
+		w.fy.forward(w.col, true)
 		bh := s.bhat[kx*p : (kx+1)*p]
-		for ky := range w.col {
-			w.col[ky] *= complex(bh[ky], 0)
+		for q, b := range bh {
+			w.col[q] = complex(real(w.col[q])*b, imag(w.col[q])*b)
 		}
-		w.cfft.Sequence(w.col, w.col)
+		w.fy.inverse(w.col)
 		for y := range n {
 			w.t[y*nx+kx] = w.col[y]
 		}
 	}
 	norm := 1 / float64(p*p)
-	for j := range n {
-		w.rfft.Sequence(w.row, w.t[j*nx:(j+1)*nx])
-		out := dst[j*n : (j+1)*n]
-		for i := range out {
-			out[i] = w.row[i] * norm
+	for y := 0; y < n; y += 2 {
+		w.fx.realPairInverse(w.ra[:n], w.rb[:n], w.t[y*nx:(y+1)*nx], w.t[(y+1)*nx:(y+2)*nx], w.x)
+		for i := range n {
+			dst[y*n+i] = w.ra[i] * norm
+			dst[(y+1)*n+i] = w.rb[i] * norm
 		}
 	}
 }

@@ -1,0 +1,159 @@
+package uv
+
+import (
+	"math"
+	"math/bits"
+)
+
+// fftPow2 is an in-place complex FFT of a power-of-two length n, the kernel
+// of the compressed χ². The forward transform (exponent sign −1) is the
+// decimation-in-frequency form, natural order in and bit-reversed order out;
+// the inverse (sign +1) is the decimation-in-time form, bit-reversed in and
+// natural out. A product in the frequency domain therefore needs no
+// permutation at all: the beam spectrum is stored in bit-reversed order.
+//
+// References:
+//
+//   - Cooley J. W. & Tukey J. W. 1965, Math. Comp. 19, 297.
+//   - Gentleman W. M. & Sande G. 1966, AFIPS Fall Joint Computer Conference
+//     29, 563: the decimation-in-frequency form.
+type fftPow2 struct {
+	n   int
+	rev []int32      // bit reversal of 0 … n−1
+	tw  []complex128 // tw[k] = exp(−2πi k/n), k < n/2
+}
+
+func newFFTPow2(n int) *fftPow2 {
+	if n < 2 || n&(n-1) != 0 {
+		panic("uv: FFT length is not a power of two ≥ 2")
+	}
+	lg := bits.TrailingZeros(uint(n))
+	f := &fftPow2{n: n, rev: make([]int32, n), tw: make([]complex128, n/2)}
+	for i := range n {
+		f.rev[i] = int32(bits.Reverse(uint(i)) >> (bits.UintSize - lg))
+	}
+	for k := range f.tw {
+		s, c := math.Sincos(-2 * math.Pi * float64(k) / float64(n))
+		f.tw[k] = complex(c, s)
+	}
+	return f
+}
+
+// nextPow2 returns the smallest power of two ≥ max(m, 2).
+func nextPow2(m int) int {
+	n := 2
+	for n < m {
+		n *= 2
+	}
+	return n
+}
+
+// forward transforms x in place, sign −1, output in bit-reversed order.
+// When half is true the caller promises x[n/2:] is zero, and the first
+// stage is pruned accordingly.
+func (f *fftPow2) forward(x []complex128, half bool) {
+	n := f.n
+	x = x[:n]
+	h := n / 2
+	if half {
+		lo, hi := x[:h], x[h:n]
+		for k, w := range f.tw {
+			a := lo[k]
+			hi[k] = complex(real(a)*real(w)-imag(a)*imag(w), real(a)*imag(w)+imag(a)*real(w))
+		}
+		h /= 2
+	}
+	for ; h >= 1; h /= 2 {
+		step := n / (2 * h)
+		for s := 0; s < n; s += 2 * h {
+			lo, hi := x[s:s+h], x[s+h:s+2*h]
+			for k := range lo {
+				w := f.tw[k*step]
+				a, b := lo[k], hi[k]
+				dr, di := real(a)-real(b), imag(a)-imag(b)
+				lo[k] = complex(real(a)+real(b), imag(a)+imag(b))
+				hi[k] = complex(dr*real(w)-di*imag(w), dr*imag(w)+di*real(w))
+			}
+		}
+	}
+}
+
+// inverse transforms x in place, sign +1, unnormalised, from bit-reversed
+// to natural order.
+func (f *fftPow2) inverse(x []complex128) {
+	n := f.n
+	x = x[:n]
+	for h := 1; h < n; h *= 2 {
+		step := n / (2 * h)
+		for s := 0; s < n; s += 2 * h {
+			lo, hi := x[s:s+h], x[s+h:s+2*h]
+			for k := range lo {
+				w := f.tw[k*step]
+				wr, wi := real(w), -imag(w)
+				b := hi[k]
+				br, bi := real(b)*wr-imag(b)*wi, real(b)*wi+imag(b)*wr
+				a := lo[k]
+				lo[k] = complex(real(a)+br, imag(a)+bi)
+				hi[k] = complex(real(a)-br, imag(a)-bi)
+			}
+		}
+	}
+}
+
+// realPair sets ca and cb to the first n/2 + 1 Fourier coefficients (sign
+// −1, natural order) of the real sequences a and b (nil for zeros), using
+// one complex FFT of a + ib. x is scratch of length n. When half is true, a
+// and b are zero beyond n/2.
+func (f *fftPow2) realPair(ca, cb []complex128, a, b []float64, x []complex128, half bool) {
+	n := f.n
+	clear(x[:n])
+	for i, v := range a {
+		x[i] = complex(v, 0)
+	}
+	for i, v := range b {
+		x[i] = complex(real(x[i]), v)
+	}
+	f.forward(x, half)
+	for k := 0; k <= n/2; k++ {
+		z := x[f.rev[k]]
+		zc := x[f.rev[(n-k)%n]]
+		zc = complex(real(zc), -imag(zc))
+		// A = (Z_k + conj Z_{n−k})/2, B = (Z_k − conj Z_{n−k})/(2i)
+		ca[k] = complex(0.5*(real(z)+real(zc)), 0.5*(imag(z)+imag(zc)))
+		if cb != nil {
+			cb[k] = complex(0.5*(imag(z)-imag(zc)), -0.5*(real(z)-real(zc)))
+		}
+	}
+}
+
+// realPairInverse sets a and b to the real sequences (unnormalised, sign
+// +1) whose first n/2 + 1 coefficients are ca and cb, with one complex FFT.
+// Only the first len(a) values are written; b may be nil.
+func (f *fftPow2) realPairInverse(a, b []float64, ca, cb []complex128, x []complex128) {
+	n := f.n
+	for k := range n {
+		var za, zb complex128
+		if k <= n/2 {
+			za = ca[k]
+			if cb != nil {
+				zb = cb[k]
+			}
+		} else {
+			za = ca[n-k]
+			za = complex(real(za), -imag(za))
+			if cb != nil {
+				zb = cb[n-k]
+				zb = complex(real(zb), -imag(zb))
+			}
+		}
+		// Z = A + iB
+		x[f.rev[k]] = complex(real(za)-imag(zb), imag(za)+real(zb))
+	}
+	f.inverse(x)
+	for i := range a {
+		a[i] = real(x[i])
+	}
+	for i := range b {
+		b[i] = imag(x[i])
+	}
+}
