@@ -1,11 +1,13 @@
 package uv
 
 import (
+	"bytes"
 	"errors"
 	"fmt"
 	"io"
 	"math"
 	"reflect"
+	"strconv"
 	"strings"
 
 	"github.com/astrogo/fitsio"
@@ -34,9 +36,18 @@ type fitsSource struct {
 
 // openFITS decodes a FITS file and prepares its first table.
 func (t *TableReader) openFITS(r io.Reader) error {
-	f, err := fitsio.Open(r)
+	// fitsio decodes the whole file anyway; holding it first lets the
+	// declared sizes be checked before fitsio allocates by them.
+	raw, err := io.ReadAll(r)
 	if err != nil {
-		return &ParseError{File: t.name, Err: fmt.Errorf("FITS: %w", err)}
+		return err
+	}
+	if err := checkFITSSizes(raw); err != nil {
+		return &ParseError{File: t.name, Err: cause(ErrBinary, "FITS: %v", err)}
+	}
+	f, err := openFITSBytes(raw)
+	if err != nil {
+		return &ParseError{File: t.name, Err: cause(ErrBinary, "FITS: %v", err)}
 	}
 	var tbl *fitsio.Table
 	for _, h := range f.HDUs() {
@@ -128,6 +139,91 @@ func (t *TableReader) openFITS(r io.Reader) error {
 	}
 	t.fits = src
 	return nil
+}
+
+// openFITSBytes decodes a FITS file held in memory. fitsio panics on some
+// malformed headers (type assertions on card values); such a file is
+// reported as an error, not a crash.
+func openFITSBytes(raw []byte) (f *fitsio.File, err error) {
+	defer func() {
+		if p := recover(); p != nil {
+			f, err = nil, fmt.Errorf("malformed header (%v)", p)
+		}
+	}()
+	return fitsio.Open(bytes.NewReader(raw))
+}
+
+// checkFITSSizes walks the HDUs of a FITS file and checks that the data
+// each header declares, |BITPIX|/8 · GCOUNT · (PCOUNT + NAXIS1 ⋯ NAXISn)
+// bytes (FITS Standard 4.0, sec. 4.4.1), fits in the file.
+//
+// References:
+//
+//	IAU FITS Working Group 2016, Definition of the Flexible Image
+//	Transport System, version 4.0, sec. 4.4.1, eqs. 1 and 2.
+func checkFITSSizes(raw []byte) error {
+	const block, card = 2880, 80
+	pos := 0
+	for hdu := 0; pos < len(raw); hdu++ {
+		keys := map[string]int64{"GCOUNT": 1}
+		end := false
+		for !end {
+			if pos+block > len(raw) {
+				return fmt.Errorf("HDU %d: header truncated", hdu)
+			}
+			for c := pos; c < pos+block; c += card {
+				line := string(raw[c : c+card])
+				key := strings.TrimSpace(line[:8])
+				if key == "END" {
+					end = true
+					break
+				}
+				if line[8:10] != "= " {
+					continue
+				}
+				v := line[10:]
+				if i := strings.IndexByte(v, '/'); i >= 0 {
+					v = v[:i]
+				}
+				if n, err := strconv.ParseInt(strings.TrimSpace(v), 10, 64); err == nil {
+					keys[key] = n
+				}
+			}
+			pos += block
+		}
+		bitpix, naxis := keys["BITPIX"], keys["NAXIS"]
+		if naxis < 0 || naxis > 999 {
+			return fmt.Errorf("HDU %d: NAXIS = %d", hdu, naxis)
+		}
+		size := int64(0)
+		if naxis > 0 {
+			size = 1
+			for i := int64(1); i <= naxis; i++ {
+				n := keys["NAXIS"+strconv.FormatInt(i, 10)]
+				if n < 0 || (n > 0 && size > math.MaxInt32/n) {
+					return fmt.Errorf("HDU %d: NAXIS%d = %d out of range", hdu, i, n)
+				}
+				size *= n
+			}
+		}
+		pc, gc := keys["PCOUNT"], keys["GCOUNT"]
+		if bitpix == 0 || pc < 0 || gc < 0 || pc > math.MaxInt32 || gc > 1<<16 {
+			return fmt.Errorf("HDU %d: BITPIX %d, PCOUNT %d, GCOUNT %d out of range", hdu, bitpix, pc, gc)
+		}
+		nbytes := abs64(bitpix) / 8 * gc * (pc + size)
+		if nbytes > int64(len(raw)-pos) {
+			return fmt.Errorf("HDU %d declares %d bytes of data, the file has %d after its header", hdu, nbytes, len(raw)-pos)
+		}
+		pos += int((nbytes + block - 1) / block * block)
+	}
+	return nil
+}
+
+func abs64(x int64) int64 {
+	if x < 0 {
+		return -x
+	}
+	return x
 }
 
 // role returns the role of column i.

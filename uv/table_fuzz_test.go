@@ -24,6 +24,11 @@ func FuzzReadTable(f *testing.F) {
 		f.Add([]byte(s), false)
 		f.Add([]byte(s), true)
 	}
+	var fits bytes.Buffer
+	if err := WriteFITSTable(&fits, randomDataset(3, true, 1)); err != nil {
+		f.Fatal(err)
+	}
+	f.Add(fits.Bytes(), false)
 	f.Fuzz(func(t *testing.T, data []byte, skip bool) {
 		opt := ReadOptions{SkipBad: skip, ChunkRows: 3}
 		r, err := NewTableReader(bytes.NewReader(data), "fuzz.csv", opt)

@@ -3,6 +3,8 @@ package uv
 import (
 	"bytes"
 	"compress/gzip"
+	"errors"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"os"
@@ -171,5 +173,30 @@ func TestFITSTableForms(t *testing.T) {
 	d.Meta.Label = "non-ASCII λ"
 	if err := WriteFITSTable(&buf, d); err == nil {
 		t.Error("non-ASCII label written to FITS without error")
+	}
+}
+
+func TestFITSCorrupt(t *testing.T) {
+	d := randomDataset(500, true, 8)
+	var buf bytes.Buffer
+	if err := WriteFITSTable(&buf, d); err != nil {
+		t.Fatal(err)
+	}
+	raw := buf.Bytes()
+	// Truncated data, a truncated header, and a header whose row count
+	// claims far more data than the file holds: errors, not crashes or
+	// giant allocations.
+	huge := bytes.Clone(raw)
+	i := bytes.Index(huge[2880:], []byte("NAXIS2  ="))
+	copy(huge[2880+i:], fmt.Sprintf("NAXIS2  = %20d", 999999999))
+	for name, b := range map[string][]byte{
+		"truncated data":   raw[:len(raw)-3000],
+		"truncated header": raw[:2880+100],
+		"huge row count":   huge,
+	} {
+		_, _, err := ReadFITSTable(bytes.NewReader(b), "bad.fits", ReadOptions{})
+		if !errors.Is(err, ErrBinary) {
+			t.Errorf("%s: error %v, want ErrBinary", name, err)
+		}
 	}
 }
