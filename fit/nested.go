@@ -22,7 +22,9 @@ type NestedSettings struct {
 	Seed uint64
 	// Steps is the number of slice-sampling moves (each along a new
 	// random direction) from the starting live point to a replacement;
-	// zero means 3 Dim.
+	// zero means 5 Dim. Fewer moves leave replacements correlated with
+	// their starting points: with 3 Dim the posterior variances of a
+	// correlated 20-D Gaussian came out 6% low.
 	Steps int
 	// Batch is the number of live points replaced together, their
 	// replacements drawn in parallel; zero means 8. It is fixed rather
@@ -181,7 +183,7 @@ func (s *NestedSettings) config(p *Problem) (nestedConfig, error) {
 		c.live = max(25*p.Dim, 100)
 	}
 	if c.steps == 0 {
-		c.steps = 3 * p.Dim
+		c.steps = 5 * p.Dim
 	}
 	if c.batch == 0 {
 		c.batch = 8
