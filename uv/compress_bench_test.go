@@ -9,7 +9,7 @@ import (
 func benchCompressed(b *testing.B, n, rows int) *Compressed {
 	rnd := rand.New(rand.NewPCG(1, 1))
 	g := Grid{N: n, Pixel: 0.03}
-	d := randomDataset(rnd, rows, g, 300e9)
+	d := simDataset(rnd, rows, g, 300e9)
 	cs, err := Compress(d, g, CompressOptions{})
 	if err != nil {
 		b.Fatal(err)
@@ -62,7 +62,7 @@ func BenchmarkChi2Visibilities(b *testing.B) {
 	g := Grid{N: 256, Pixel: 0.03}
 	img := randomImage(rnd, g)
 	for _, rows := range []int{10000, 100000, 1000000} {
-		d := randomDataset(rnd, rows, g, 300e9)
+		d := simDataset(rnd, rows, g, 300e9)
 		p, err := NewPredictor(g, NewPrimaryBeam(12, 300e9), d.U, d.V, 1e-6)
 		if err != nil {
 			b.Fatal(err)
@@ -83,7 +83,7 @@ func BenchmarkChi2Visibilities(b *testing.B) {
 func BenchmarkAccumulate(b *testing.B) {
 	rnd := rand.New(rand.NewPCG(2, 5))
 	g := Grid{N: 256, Pixel: 0.03}
-	d := randomDataset(rnd, 1000000, g, 300e9)
+	d := simDataset(rnd, 1000000, g, 300e9)
 	b.ReportAllocs()
 	for b.Loop() {
 		if _, err := CompressStream(d.Chunks(1<<16), g, CompressOptions{}); err != nil {

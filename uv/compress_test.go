@@ -6,9 +6,9 @@ import (
 	"testing"
 )
 
-// randomDataset returns n rows of random coverage on g, random visibilities
+// simDataset returns n rows of random coverage on g, random visibilities
 // and weights, every 17th row flagged, all at freq Hz with a 12 m dish.
-func randomDataset(rnd *rand.Rand, n int, g Grid, freq float64) *Dataset {
+func simDataset(rnd *rand.Rand, n int, g Grid, freq float64) *Dataset {
 	u, v := randomCoverage(rnd, n, g)
 	d := &Dataset{Meta: Meta{Label: "test", Freq: freq, Dish: 12}, U: u, V: v,
 		Re: make([]float64, n), Im: make([]float64, n), Weight: make([]float64, n), Flag: make([]bool, n)}
@@ -79,7 +79,7 @@ func TestCompressedChi2(t *testing.T) {
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			const freq = 2e12 // 12 m dish: FWHM 2.9″, comparable to the grid
-			d := randomDataset(rnd, 400, tc.g, freq)
+			d := simDataset(rnd, 400, tc.g, freq)
 			opt := CompressOptions{Exact: tc.exact, NoPrimaryBeam: !tc.beam}
 			cs, err := Compress(d, tc.g, opt)
 			if err != nil {
@@ -145,7 +145,7 @@ func TestResidualDirty(t *testing.T) {
 	rnd := rand.New(rand.NewPCG(1, 2))
 	g := Grid{N: 16, Pixel: 0.3, X0: 0.3, Y0: 0.6}
 	const freq = 2e12
-	d := randomDataset(rnd, 300, g, freq)
+	d := simDataset(rnd, 300, g, freq)
 	cs, err := Compress(d, g, CompressOptions{})
 	if err != nil {
 		t.Fatal(err)
@@ -186,7 +186,7 @@ func TestResidualDirty(t *testing.T) {
 func TestChi2Grad(t *testing.T) {
 	rnd := rand.New(rand.NewPCG(1, 3))
 	g := Grid{N: 16, Pixel: 0.3}
-	d := randomDataset(rnd, 300, g, 2e12)
+	d := simDataset(rnd, 300, g, 2e12)
 	cs, err := Compress(d, g, CompressOptions{})
 	if err != nil {
 		t.Fatal(err)
@@ -213,7 +213,7 @@ func TestChi2Grad(t *testing.T) {
 func TestCompressStreaming(t *testing.T) {
 	rnd := rand.New(rand.NewPCG(1, 4))
 	g := Grid{N: 16, Pixel: 0.3, X0: 0.2}
-	d := randomDataset(rnd, 250, g, 2e12)
+	d := simDataset(rnd, 250, g, 2e12)
 	whole, err := Compress(d, g, CompressOptions{})
 	if err != nil {
 		t.Fatal(err)
@@ -244,7 +244,7 @@ func TestCompressStreaming(t *testing.T) {
 func TestFrequencyGroups(t *testing.T) {
 	rnd := rand.New(rand.NewPCG(1, 5))
 	g := Grid{N: 16, Pixel: 0.3}
-	d := randomDataset(rnd, 300, g, 0)
+	d := simDataset(rnd, 300, g, 0)
 	d.Freqs = []float64{2.000e12, 2.004e12, 2.008e12, 2.012e12, 2.016e12, 2.020e12}
 	d.FreqIndex = make([]uint32, d.Len())
 	for k := range d.FreqIndex {

@@ -12,7 +12,7 @@ import (
 func TestDirtyPointSource(t *testing.T) {
 	rnd := rand.New(rand.NewPCG(1, 1))
 	g := Grid{N: 32, Pixel: 0.1, X0: 0.3, Y0: -0.2}
-	d := randomDataset(rnd, 2000, g, 300e9)
+	d := simDataset(rnd, 2000, g, 300e9)
 	// Shrink the coverage to resolution ≈ 5 pixels.
 	for k := range d.U {
 		d.U[k] *= 0.2
@@ -62,7 +62,7 @@ func TestDirtyPointSource(t *testing.T) {
 func TestDirtyNatural(t *testing.T) {
 	rnd := rand.New(rand.NewPCG(1, 2))
 	g := Grid{N: 32, Pixel: 0.3, X0: 0.5}
-	d := randomDataset(rnd, 500, g, 300e9)
+	d := simDataset(rnd, 500, g, 300e9)
 	for k := range d.U {
 		d.U[k] *= 0.2
 		d.V[k] *= 0.2
@@ -116,7 +116,7 @@ func TestDirtyNatural(t *testing.T) {
 func TestImagingWeights(t *testing.T) {
 	rnd := rand.New(rand.NewPCG(1, 3))
 	g := Grid{N: 16, Pixel: 0.3}
-	d := randomDataset(rnd, 400, g, 300e9)
+	d := simDataset(rnd, 400, g, 300e9)
 	for k := range d.U {
 		d.U[k] *= 0.3
 		d.V[k] *= 0.3
