@@ -34,6 +34,11 @@ type esKernel struct {
 	// coef[(k*(deg+1)+d)*w+a] is the coefficient of z^(deg−d) for tap a on
 	// sub-interval k, highest degree first, for Horner's rule.
 	coef []float64
+	// dup is coef laid out for the assembly kernels: per piece, deg+1 rows of
+	// lanes = 4⌈w/2⌉ values, tap a's coefficient in lanes 2a and 2a+1, the
+	// remaining lanes zero.
+	dup   []float64
+	lanes int
 }
 
 // widthForTol returns the kernel width w = ⌈log10(1/ε)⌉ + 1 for 2×
@@ -51,7 +56,19 @@ func newESKernel(w int, polyTol float64) esKernel {
 	for deg := 1; deg <= maxDeg; deg++ {
 		k.fit(deg)
 		if k.maxPolyError() <= polyTol {
-			return k
+			break
+		}
+	}
+	k.lanes = 4 * ((w + 1) / 2)
+	nc := k.deg + 1
+	k.dup = make([]float64, nsub*nc*k.lanes)
+	for j := range nsub {
+		for d := range nc {
+			for a := range w {
+				v := k.coef[(j*nc+d)*w+a]
+				k.dup[(j*nc+d)*k.lanes+2*a] = v
+				k.dup[(j*nc+d)*k.lanes+2*a+1] = v
+			}
 		}
 	}
 	return k

@@ -4,7 +4,7 @@ package nufft
 
 import "math"
 
-// interpBand runs interpolate's loop over sorted points [lo, hi).
+// interpBand runs interpolate's loop over sorted points [lo, hi), writing dst[lo:hi] (sorted order).
 func (p *Plan) interpBand(lo, hi int, dst []complex128) {
 	switch p.w {
 	case 2:
@@ -42,7 +42,7 @@ func (p *Plan) interpBand(lo, hi int, dst []complex128) {
 	}
 }
 
-// spreadBand runs spread's loop over sorted points [lo, hi).
+// spreadBand runs spread's loop over sorted points [lo, hi) with strengths c[lo:hi] (sorted order).
 func (p *Plan) spreadBand(lo, hi int, c []complex128) {
 	switch p.w {
 	case 2:
@@ -105,11 +105,12 @@ func hornerPairW2(k *esKernel, fracx, fracy float64, kx, ky *[2]float64) {
 
 // interpW2 is interpolate's loop for w = 2.
 func interpW2(p *Plan, lo, hi int, dst []complex128) {
+	out := dst[lo:hi]
 	const hw = 1
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [2]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -123,17 +124,18 @@ func interpW2(p *Plan, lo, hi int, dst []complex128) {
 			sr += (real(row[0])*kx[0] + real(row[1])*kx[1]) * vy
 			si += (imag(row[0])*kx[0] + imag(row[1])*kx[1]) * vy
 		}
-		dst[perm[s]] = complex(sr, si)
+		out[s] = complex(sr, si)
 	}
 }
 
 // spreadW2 is spread's loop for w = 2.
 func spreadW2(p *Plan, lo, hi int, c []complex128) {
+	cs := c[lo:hi]
 	const hw = 1
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [2]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -141,7 +143,7 @@ func spreadW2(p *Plan, lo, hi int, c []complex128) {
 		fy := math.Ceil(y - hw)
 		hornerPairW2(k, fx-x+hw, fy-y+hw, &kx, &ky)
 		base := (int(fy)+pad)*np + int(fx) + pad
-		v := c[perm[s]]
+		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
 			row := (*[2]complex128)(g[base+bi*np:])
@@ -179,11 +181,12 @@ func hornerPairW3(k *esKernel, fracx, fracy float64, kx, ky *[3]float64) {
 
 // interpW3 is interpolate's loop for w = 3.
 func interpW3(p *Plan, lo, hi int, dst []complex128) {
+	out := dst[lo:hi]
 	const hw = 1.5
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [3]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -197,17 +200,18 @@ func interpW3(p *Plan, lo, hi int, dst []complex128) {
 			sr += ((real(row[0])*kx[0] + real(row[1])*kx[1]) + real(row[2])*kx[2]) * vy
 			si += ((imag(row[0])*kx[0] + imag(row[1])*kx[1]) + imag(row[2])*kx[2]) * vy
 		}
-		dst[perm[s]] = complex(sr, si)
+		out[s] = complex(sr, si)
 	}
 }
 
 // spreadW3 is spread's loop for w = 3.
 func spreadW3(p *Plan, lo, hi int, c []complex128) {
+	cs := c[lo:hi]
 	const hw = 1.5
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [3]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -215,7 +219,7 @@ func spreadW3(p *Plan, lo, hi int, c []complex128) {
 		fy := math.Ceil(y - hw)
 		hornerPairW3(k, fx-x+hw, fy-y+hw, &kx, &ky)
 		base := (int(fy)+pad)*np + int(fx) + pad
-		v := c[perm[s]]
+		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
 			row := (*[3]complex128)(g[base+bi*np:])
@@ -256,11 +260,12 @@ func hornerPairW4(k *esKernel, fracx, fracy float64, kx, ky *[4]float64) {
 
 // interpW4 is interpolate's loop for w = 4.
 func interpW4(p *Plan, lo, hi int, dst []complex128) {
+	out := dst[lo:hi]
 	const hw = 2
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [4]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -274,17 +279,18 @@ func interpW4(p *Plan, lo, hi int, dst []complex128) {
 			sr += ((real(row[0])*kx[0] + real(row[1])*kx[1]) + (real(row[2])*kx[2] + real(row[3])*kx[3])) * vy
 			si += ((imag(row[0])*kx[0] + imag(row[1])*kx[1]) + (imag(row[2])*kx[2] + imag(row[3])*kx[3])) * vy
 		}
-		dst[perm[s]] = complex(sr, si)
+		out[s] = complex(sr, si)
 	}
 }
 
 // spreadW4 is spread's loop for w = 4.
 func spreadW4(p *Plan, lo, hi int, c []complex128) {
+	cs := c[lo:hi]
 	const hw = 2
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [4]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -292,7 +298,7 @@ func spreadW4(p *Plan, lo, hi int, c []complex128) {
 		fy := math.Ceil(y - hw)
 		hornerPairW4(k, fx-x+hw, fy-y+hw, &kx, &ky)
 		base := (int(fy)+pad)*np + int(fx) + pad
-		v := c[perm[s]]
+		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
 			row := (*[4]complex128)(g[base+bi*np:])
@@ -336,11 +342,12 @@ func hornerPairW5(k *esKernel, fracx, fracy float64, kx, ky *[5]float64) {
 
 // interpW5 is interpolate's loop for w = 5.
 func interpW5(p *Plan, lo, hi int, dst []complex128) {
+	out := dst[lo:hi]
 	const hw = 2.5
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [5]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -354,17 +361,18 @@ func interpW5(p *Plan, lo, hi int, dst []complex128) {
 			sr += (((real(row[0])*kx[0] + real(row[1])*kx[1]) + real(row[2])*kx[2]) + (real(row[3])*kx[3] + real(row[4])*kx[4])) * vy
 			si += (((imag(row[0])*kx[0] + imag(row[1])*kx[1]) + imag(row[2])*kx[2]) + (imag(row[3])*kx[3] + imag(row[4])*kx[4])) * vy
 		}
-		dst[perm[s]] = complex(sr, si)
+		out[s] = complex(sr, si)
 	}
 }
 
 // spreadW5 is spread's loop for w = 5.
 func spreadW5(p *Plan, lo, hi int, c []complex128) {
+	cs := c[lo:hi]
 	const hw = 2.5
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [5]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -372,7 +380,7 @@ func spreadW5(p *Plan, lo, hi int, c []complex128) {
 		fy := math.Ceil(y - hw)
 		hornerPairW5(k, fx-x+hw, fy-y+hw, &kx, &ky)
 		base := (int(fy)+pad)*np + int(fx) + pad
-		v := c[perm[s]]
+		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
 			row := (*[5]complex128)(g[base+bi*np:])
@@ -419,11 +427,12 @@ func hornerPairW6(k *esKernel, fracx, fracy float64, kx, ky *[6]float64) {
 
 // interpW6 is interpolate's loop for w = 6.
 func interpW6(p *Plan, lo, hi int, dst []complex128) {
+	out := dst[lo:hi]
 	const hw = 3
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [6]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -437,17 +446,18 @@ func interpW6(p *Plan, lo, hi int, dst []complex128) {
 			sr += (((real(row[0])*kx[0] + real(row[1])*kx[1]) + real(row[2])*kx[2]) + ((real(row[3])*kx[3] + real(row[4])*kx[4]) + real(row[5])*kx[5])) * vy
 			si += (((imag(row[0])*kx[0] + imag(row[1])*kx[1]) + imag(row[2])*kx[2]) + ((imag(row[3])*kx[3] + imag(row[4])*kx[4]) + imag(row[5])*kx[5])) * vy
 		}
-		dst[perm[s]] = complex(sr, si)
+		out[s] = complex(sr, si)
 	}
 }
 
 // spreadW6 is spread's loop for w = 6.
 func spreadW6(p *Plan, lo, hi int, c []complex128) {
+	cs := c[lo:hi]
 	const hw = 3
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [6]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -455,7 +465,7 @@ func spreadW6(p *Plan, lo, hi int, c []complex128) {
 		fy := math.Ceil(y - hw)
 		hornerPairW6(k, fx-x+hw, fy-y+hw, &kx, &ky)
 		base := (int(fy)+pad)*np + int(fx) + pad
-		v := c[perm[s]]
+		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
 			row := (*[6]complex128)(g[base+bi*np:])
@@ -505,11 +515,12 @@ func hornerPairW7(k *esKernel, fracx, fracy float64, kx, ky *[7]float64) {
 
 // interpW7 is interpolate's loop for w = 7.
 func interpW7(p *Plan, lo, hi int, dst []complex128) {
+	out := dst[lo:hi]
 	const hw = 3.5
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [7]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -523,17 +534,18 @@ func interpW7(p *Plan, lo, hi int, dst []complex128) {
 			sr += (((real(row[0])*kx[0] + real(row[1])*kx[1]) + (real(row[2])*kx[2] + real(row[3])*kx[3])) + ((real(row[4])*kx[4] + real(row[5])*kx[5]) + real(row[6])*kx[6])) * vy
 			si += (((imag(row[0])*kx[0] + imag(row[1])*kx[1]) + (imag(row[2])*kx[2] + imag(row[3])*kx[3])) + ((imag(row[4])*kx[4] + imag(row[5])*kx[5]) + imag(row[6])*kx[6])) * vy
 		}
-		dst[perm[s]] = complex(sr, si)
+		out[s] = complex(sr, si)
 	}
 }
 
 // spreadW7 is spread's loop for w = 7.
 func spreadW7(p *Plan, lo, hi int, c []complex128) {
+	cs := c[lo:hi]
 	const hw = 3.5
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [7]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -541,7 +553,7 @@ func spreadW7(p *Plan, lo, hi int, c []complex128) {
 		fy := math.Ceil(y - hw)
 		hornerPairW7(k, fx-x+hw, fy-y+hw, &kx, &ky)
 		base := (int(fy)+pad)*np + int(fx) + pad
-		v := c[perm[s]]
+		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
 			row := (*[7]complex128)(g[base+bi*np:])
@@ -581,11 +593,12 @@ func hornerW8(k *esKernel, frac float64, ker *[8]float64) {
 
 // interpW8 is interpolate's loop for w = 8.
 func interpW8(p *Plan, lo, hi int, dst []complex128) {
+	out := dst[lo:hi]
 	const hw = 4
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [8]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -600,17 +613,18 @@ func interpW8(p *Plan, lo, hi int, dst []complex128) {
 			sr += (((real(row[0])*kx[0] + real(row[1])*kx[1]) + (real(row[2])*kx[2] + real(row[3])*kx[3])) + ((real(row[4])*kx[4] + real(row[5])*kx[5]) + (real(row[6])*kx[6] + real(row[7])*kx[7]))) * vy
 			si += (((imag(row[0])*kx[0] + imag(row[1])*kx[1]) + (imag(row[2])*kx[2] + imag(row[3])*kx[3])) + ((imag(row[4])*kx[4] + imag(row[5])*kx[5]) + (imag(row[6])*kx[6] + imag(row[7])*kx[7]))) * vy
 		}
-		dst[perm[s]] = complex(sr, si)
+		out[s] = complex(sr, si)
 	}
 }
 
 // spreadW8 is spread's loop for w = 8.
 func spreadW8(p *Plan, lo, hi int, c []complex128) {
+	cs := c[lo:hi]
 	const hw = 4
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [8]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -619,7 +633,7 @@ func spreadW8(p *Plan, lo, hi int, c []complex128) {
 		hornerW8(k, fx-x+hw, &kx)
 		hornerW8(k, fy-y+hw, &ky)
 		base := (int(fy)+pad)*np + int(fx) + pad
-		v := c[perm[s]]
+		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
 			row := (*[8]complex128)(g[base+bi*np:])
@@ -661,11 +675,12 @@ func hornerW9(k *esKernel, frac float64, ker *[9]float64) {
 
 // interpW9 is interpolate's loop for w = 9.
 func interpW9(p *Plan, lo, hi int, dst []complex128) {
+	out := dst[lo:hi]
 	const hw = 4.5
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [9]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -680,17 +695,18 @@ func interpW9(p *Plan, lo, hi int, dst []complex128) {
 			sr += ((((real(row[0])*kx[0] + real(row[1])*kx[1]) + real(row[2])*kx[2]) + (real(row[3])*kx[3] + real(row[4])*kx[4])) + ((real(row[5])*kx[5] + real(row[6])*kx[6]) + (real(row[7])*kx[7] + real(row[8])*kx[8]))) * vy
 			si += ((((imag(row[0])*kx[0] + imag(row[1])*kx[1]) + imag(row[2])*kx[2]) + (imag(row[3])*kx[3] + imag(row[4])*kx[4])) + ((imag(row[5])*kx[5] + imag(row[6])*kx[6]) + (imag(row[7])*kx[7] + imag(row[8])*kx[8]))) * vy
 		}
-		dst[perm[s]] = complex(sr, si)
+		out[s] = complex(sr, si)
 	}
 }
 
 // spreadW9 is spread's loop for w = 9.
 func spreadW9(p *Plan, lo, hi int, c []complex128) {
+	cs := c[lo:hi]
 	const hw = 4.5
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [9]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -699,7 +715,7 @@ func spreadW9(p *Plan, lo, hi int, c []complex128) {
 		hornerW9(k, fx-x+hw, &kx)
 		hornerW9(k, fy-y+hw, &ky)
 		base := (int(fy)+pad)*np + int(fx) + pad
-		v := c[perm[s]]
+		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
 			row := (*[9]complex128)(g[base+bi*np:])
@@ -743,11 +759,12 @@ func hornerW10(k *esKernel, frac float64, ker *[10]float64) {
 
 // interpW10 is interpolate's loop for w = 10.
 func interpW10(p *Plan, lo, hi int, dst []complex128) {
+	out := dst[lo:hi]
 	const hw = 5
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [10]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -762,17 +779,18 @@ func interpW10(p *Plan, lo, hi int, dst []complex128) {
 			sr += ((((real(row[0])*kx[0] + real(row[1])*kx[1]) + real(row[2])*kx[2]) + (real(row[3])*kx[3] + real(row[4])*kx[4])) + (((real(row[5])*kx[5] + real(row[6])*kx[6]) + real(row[7])*kx[7]) + (real(row[8])*kx[8] + real(row[9])*kx[9]))) * vy
 			si += ((((imag(row[0])*kx[0] + imag(row[1])*kx[1]) + imag(row[2])*kx[2]) + (imag(row[3])*kx[3] + imag(row[4])*kx[4])) + (((imag(row[5])*kx[5] + imag(row[6])*kx[6]) + imag(row[7])*kx[7]) + (imag(row[8])*kx[8] + imag(row[9])*kx[9]))) * vy
 		}
-		dst[perm[s]] = complex(sr, si)
+		out[s] = complex(sr, si)
 	}
 }
 
 // spreadW10 is spread's loop for w = 10.
 func spreadW10(p *Plan, lo, hi int, c []complex128) {
+	cs := c[lo:hi]
 	const hw = 5
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [10]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -781,7 +799,7 @@ func spreadW10(p *Plan, lo, hi int, c []complex128) {
 		hornerW10(k, fx-x+hw, &kx)
 		hornerW10(k, fy-y+hw, &ky)
 		base := (int(fy)+pad)*np + int(fx) + pad
-		v := c[perm[s]]
+		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
 			row := (*[10]complex128)(g[base+bi*np:])
@@ -827,11 +845,12 @@ func hornerW11(k *esKernel, frac float64, ker *[11]float64) {
 
 // interpW11 is interpolate's loop for w = 11.
 func interpW11(p *Plan, lo, hi int, dst []complex128) {
+	out := dst[lo:hi]
 	const hw = 5.5
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [11]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -846,17 +865,18 @@ func interpW11(p *Plan, lo, hi int, dst []complex128) {
 			sr += ((((real(row[0])*kx[0] + real(row[1])*kx[1]) + real(row[2])*kx[2]) + ((real(row[3])*kx[3] + real(row[4])*kx[4]) + real(row[5])*kx[5])) + (((real(row[6])*kx[6] + real(row[7])*kx[7]) + real(row[8])*kx[8]) + (real(row[9])*kx[9] + real(row[10])*kx[10]))) * vy
 			si += ((((imag(row[0])*kx[0] + imag(row[1])*kx[1]) + imag(row[2])*kx[2]) + ((imag(row[3])*kx[3] + imag(row[4])*kx[4]) + imag(row[5])*kx[5])) + (((imag(row[6])*kx[6] + imag(row[7])*kx[7]) + imag(row[8])*kx[8]) + (imag(row[9])*kx[9] + imag(row[10])*kx[10]))) * vy
 		}
-		dst[perm[s]] = complex(sr, si)
+		out[s] = complex(sr, si)
 	}
 }
 
 // spreadW11 is spread's loop for w = 11.
 func spreadW11(p *Plan, lo, hi int, c []complex128) {
+	cs := c[lo:hi]
 	const hw = 5.5
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [11]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -865,7 +885,7 @@ func spreadW11(p *Plan, lo, hi int, c []complex128) {
 		hornerW11(k, fx-x+hw, &kx)
 		hornerW11(k, fy-y+hw, &ky)
 		base := (int(fy)+pad)*np + int(fx) + pad
-		v := c[perm[s]]
+		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
 			row := (*[11]complex128)(g[base+bi*np:])
@@ -913,11 +933,12 @@ func hornerW12(k *esKernel, frac float64, ker *[12]float64) {
 
 // interpW12 is interpolate's loop for w = 12.
 func interpW12(p *Plan, lo, hi int, dst []complex128) {
+	out := dst[lo:hi]
 	const hw = 6
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [12]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -932,17 +953,18 @@ func interpW12(p *Plan, lo, hi int, dst []complex128) {
 			sr += ((((real(row[0])*kx[0] + real(row[1])*kx[1]) + real(row[2])*kx[2]) + ((real(row[3])*kx[3] + real(row[4])*kx[4]) + real(row[5])*kx[5])) + (((real(row[6])*kx[6] + real(row[7])*kx[7]) + real(row[8])*kx[8]) + ((real(row[9])*kx[9] + real(row[10])*kx[10]) + real(row[11])*kx[11]))) * vy
 			si += ((((imag(row[0])*kx[0] + imag(row[1])*kx[1]) + imag(row[2])*kx[2]) + ((imag(row[3])*kx[3] + imag(row[4])*kx[4]) + imag(row[5])*kx[5])) + (((imag(row[6])*kx[6] + imag(row[7])*kx[7]) + imag(row[8])*kx[8]) + ((imag(row[9])*kx[9] + imag(row[10])*kx[10]) + imag(row[11])*kx[11]))) * vy
 		}
-		dst[perm[s]] = complex(sr, si)
+		out[s] = complex(sr, si)
 	}
 }
 
 // spreadW12 is spread's loop for w = 12.
 func spreadW12(p *Plan, lo, hi int, c []complex128) {
+	cs := c[lo:hi]
 	const hw = 6
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [12]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -951,7 +973,7 @@ func spreadW12(p *Plan, lo, hi int, c []complex128) {
 		hornerW12(k, fx-x+hw, &kx)
 		hornerW12(k, fy-y+hw, &ky)
 		base := (int(fy)+pad)*np + int(fx) + pad
-		v := c[perm[s]]
+		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
 			row := (*[12]complex128)(g[base+bi*np:])
@@ -1001,11 +1023,12 @@ func hornerW13(k *esKernel, frac float64, ker *[13]float64) {
 
 // interpW13 is interpolate's loop for w = 13.
 func interpW13(p *Plan, lo, hi int, dst []complex128) {
+	out := dst[lo:hi]
 	const hw = 6.5
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [13]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -1020,17 +1043,18 @@ func interpW13(p *Plan, lo, hi int, dst []complex128) {
 			sr += ((((real(row[0])*kx[0] + real(row[1])*kx[1]) + (real(row[2])*kx[2] + real(row[3])*kx[3])) + ((real(row[4])*kx[4] + real(row[5])*kx[5]) + real(row[6])*kx[6])) + (((real(row[7])*kx[7] + real(row[8])*kx[8]) + real(row[9])*kx[9]) + ((real(row[10])*kx[10] + real(row[11])*kx[11]) + real(row[12])*kx[12]))) * vy
 			si += ((((imag(row[0])*kx[0] + imag(row[1])*kx[1]) + (imag(row[2])*kx[2] + imag(row[3])*kx[3])) + ((imag(row[4])*kx[4] + imag(row[5])*kx[5]) + imag(row[6])*kx[6])) + (((imag(row[7])*kx[7] + imag(row[8])*kx[8]) + imag(row[9])*kx[9]) + ((imag(row[10])*kx[10] + imag(row[11])*kx[11]) + imag(row[12])*kx[12]))) * vy
 		}
-		dst[perm[s]] = complex(sr, si)
+		out[s] = complex(sr, si)
 	}
 }
 
 // spreadW13 is spread's loop for w = 13.
 func spreadW13(p *Plan, lo, hi int, c []complex128) {
+	cs := c[lo:hi]
 	const hw = 6.5
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [13]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -1039,7 +1063,7 @@ func spreadW13(p *Plan, lo, hi int, c []complex128) {
 		hornerW13(k, fx-x+hw, &kx)
 		hornerW13(k, fy-y+hw, &ky)
 		base := (int(fy)+pad)*np + int(fx) + pad
-		v := c[perm[s]]
+		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
 			row := (*[13]complex128)(g[base+bi*np:])
@@ -1091,11 +1115,12 @@ func hornerW14(k *esKernel, frac float64, ker *[14]float64) {
 
 // interpW14 is interpolate's loop for w = 14.
 func interpW14(p *Plan, lo, hi int, dst []complex128) {
+	out := dst[lo:hi]
 	const hw = 7
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [14]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -1110,17 +1135,18 @@ func interpW14(p *Plan, lo, hi int, dst []complex128) {
 			sr += ((((real(row[0])*kx[0] + real(row[1])*kx[1]) + (real(row[2])*kx[2] + real(row[3])*kx[3])) + ((real(row[4])*kx[4] + real(row[5])*kx[5]) + real(row[6])*kx[6])) + (((real(row[7])*kx[7] + real(row[8])*kx[8]) + (real(row[9])*kx[9] + real(row[10])*kx[10])) + ((real(row[11])*kx[11] + real(row[12])*kx[12]) + real(row[13])*kx[13]))) * vy
 			si += ((((imag(row[0])*kx[0] + imag(row[1])*kx[1]) + (imag(row[2])*kx[2] + imag(row[3])*kx[3])) + ((imag(row[4])*kx[4] + imag(row[5])*kx[5]) + imag(row[6])*kx[6])) + (((imag(row[7])*kx[7] + imag(row[8])*kx[8]) + (imag(row[9])*kx[9] + imag(row[10])*kx[10])) + ((imag(row[11])*kx[11] + imag(row[12])*kx[12]) + imag(row[13])*kx[13]))) * vy
 		}
-		dst[perm[s]] = complex(sr, si)
+		out[s] = complex(sr, si)
 	}
 }
 
 // spreadW14 is spread's loop for w = 14.
 func spreadW14(p *Plan, lo, hi int, c []complex128) {
+	cs := c[lo:hi]
 	const hw = 7
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [14]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -1129,7 +1155,7 @@ func spreadW14(p *Plan, lo, hi int, c []complex128) {
 		hornerW14(k, fx-x+hw, &kx)
 		hornerW14(k, fy-y+hw, &ky)
 		base := (int(fy)+pad)*np + int(fx) + pad
-		v := c[perm[s]]
+		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
 			row := (*[14]complex128)(g[base+bi*np:])
@@ -1183,11 +1209,12 @@ func hornerW15(k *esKernel, frac float64, ker *[15]float64) {
 
 // interpW15 is interpolate's loop for w = 15.
 func interpW15(p *Plan, lo, hi int, dst []complex128) {
+	out := dst[lo:hi]
 	const hw = 7.5
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [15]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -1202,17 +1229,18 @@ func interpW15(p *Plan, lo, hi int, dst []complex128) {
 			sr += ((((real(row[0])*kx[0] + real(row[1])*kx[1]) + (real(row[2])*kx[2] + real(row[3])*kx[3])) + ((real(row[4])*kx[4] + real(row[5])*kx[5]) + (real(row[6])*kx[6] + real(row[7])*kx[7]))) + (((real(row[8])*kx[8] + real(row[9])*kx[9]) + (real(row[10])*kx[10] + real(row[11])*kx[11])) + ((real(row[12])*kx[12] + real(row[13])*kx[13]) + real(row[14])*kx[14]))) * vy
 			si += ((((imag(row[0])*kx[0] + imag(row[1])*kx[1]) + (imag(row[2])*kx[2] + imag(row[3])*kx[3])) + ((imag(row[4])*kx[4] + imag(row[5])*kx[5]) + (imag(row[6])*kx[6] + imag(row[7])*kx[7]))) + (((imag(row[8])*kx[8] + imag(row[9])*kx[9]) + (imag(row[10])*kx[10] + imag(row[11])*kx[11])) + ((imag(row[12])*kx[12] + imag(row[13])*kx[13]) + imag(row[14])*kx[14]))) * vy
 		}
-		dst[perm[s]] = complex(sr, si)
+		out[s] = complex(sr, si)
 	}
 }
 
 // spreadW15 is spread's loop for w = 15.
 func spreadW15(p *Plan, lo, hi int, c []complex128) {
+	cs := c[lo:hi]
 	const hw = 7.5
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [15]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -1221,7 +1249,7 @@ func spreadW15(p *Plan, lo, hi int, c []complex128) {
 		hornerW15(k, fx-x+hw, &kx)
 		hornerW15(k, fy-y+hw, &ky)
 		base := (int(fy)+pad)*np + int(fx) + pad
-		v := c[perm[s]]
+		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
 			row := (*[15]complex128)(g[base+bi*np:])
@@ -1277,11 +1305,12 @@ func hornerW16(k *esKernel, frac float64, ker *[16]float64) {
 
 // interpW16 is interpolate's loop for w = 16.
 func interpW16(p *Plan, lo, hi int, dst []complex128) {
+	out := dst[lo:hi]
 	const hw = 8
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [16]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -1296,17 +1325,18 @@ func interpW16(p *Plan, lo, hi int, dst []complex128) {
 			sr += ((((real(row[0])*kx[0] + real(row[1])*kx[1]) + (real(row[2])*kx[2] + real(row[3])*kx[3])) + ((real(row[4])*kx[4] + real(row[5])*kx[5]) + (real(row[6])*kx[6] + real(row[7])*kx[7]))) + (((real(row[8])*kx[8] + real(row[9])*kx[9]) + (real(row[10])*kx[10] + real(row[11])*kx[11])) + ((real(row[12])*kx[12] + real(row[13])*kx[13]) + (real(row[14])*kx[14] + real(row[15])*kx[15])))) * vy
 			si += ((((imag(row[0])*kx[0] + imag(row[1])*kx[1]) + (imag(row[2])*kx[2] + imag(row[3])*kx[3])) + ((imag(row[4])*kx[4] + imag(row[5])*kx[5]) + (imag(row[6])*kx[6] + imag(row[7])*kx[7]))) + (((imag(row[8])*kx[8] + imag(row[9])*kx[9]) + (imag(row[10])*kx[10] + imag(row[11])*kx[11])) + ((imag(row[12])*kx[12] + imag(row[13])*kx[13]) + (imag(row[14])*kx[14] + imag(row[15])*kx[15])))) * vy
 		}
-		dst[perm[s]] = complex(sr, si)
+		out[s] = complex(sr, si)
 	}
 }
 
 // spreadW16 is spread's loop for w = 16.
 func spreadW16(p *Plan, lo, hi int, c []complex128) {
+	cs := c[lo:hi]
 	const hw = 8
 	k := &p.ker
 	g := p.padded
 	np, pad := p.np, p.pad
-	tx, ty, perm := p.tx[lo:hi], p.ty[lo:hi], p.perm[lo:hi]
+	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
 	var kx, ky [16]float64
 	for s, x := range tx {
 		y := ty[s]
@@ -1315,7 +1345,7 @@ func spreadW16(p *Plan, lo, hi int, c []complex128) {
 		hornerW16(k, fx-x+hw, &kx)
 		hornerW16(k, fy-y+hw, &ky)
 		base := (int(fy)+pad)*np + int(fx) + pad
-		v := c[perm[s]]
+		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
 			row := (*[16]complex128)(g[base+bi*np:])

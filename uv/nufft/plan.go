@@ -46,6 +46,14 @@ type Plan struct {
 	tx, ty []float64 // fine-grid coordinates in [0, nf), sorted order
 	perm   []int32   // perm[sorted index] = caller's index
 	bandAt []int     // points of band b are sorted indices bandAt[b] … bandAt[b+1]−1
+
+	// avx selects the AVX2/FMA assembly kernels (where the CPU has them).
+	avx bool
+
+	// sorted holds the strengths (type 1) or values (type 2) in sorted order:
+	// a separate gather or scatter pass keeps the random accesses to the
+	// caller's array out of the kernel loops.
+	sorted []complex128
 }
 
 // NewPlan returns a plan for n×n grids (n even, ≥ 2) at relative tolerance
@@ -58,7 +66,7 @@ func NewPlan(n int, tol float64) (*Plan, error) {
 		return nil, fmt.Errorf("nufft: tolerance %g: want a value in [%g, %g]", tol, MinTol, MaxTol)
 	}
 	w := widthForTol(tol)
-	p := &Plan{n: n, nf: 2 * n, tol: tol, w: w}
+	p := &Plan{n: n, nf: 2 * n, tol: tol, w: w, avx: haveAVX}
 	p.ker = newESKernel(w, tol/polyTolFactor)
 	xi := make([]float64, n)
 	for i := range xi {
@@ -116,6 +124,10 @@ func (p *Plan) SetPoints(x, y []float64) {
 		p.perm = make([]int32, m)
 	}
 	p.tx, p.ty, p.perm = p.tx[:m], p.ty[:m], p.perm[:m]
+	if cap(p.sorted) < m {
+		p.sorted = make([]complex128, m)
+	}
+	p.sorted = p.sorted[:m]
 	bin := make([]int32, m)
 	count := make([]int, nbin+1)
 	for k := range m {
@@ -209,7 +221,12 @@ func (p *Plan) finishType2(dst []complex128, sign int) []complex128 {
 	// Only rows (modes m2) [0, n/2) ∪ [nf−n/2, nf) are non-zero.
 	p.fft.transform(p.fine, sign, n/2, nf-n/2, nf, nf)
 	p.wrapToPadded()
-	p.interpolate(dst)
+	p.interpolate(p.sorted)
+	parallelRange(p.npts, func(_, lo, hi int) {
+		for s, v := range p.sorted[lo:hi] {
+			dst[p.perm[lo+s]] = v
+		}
+	})
 	return dst
 }
 
@@ -230,7 +247,12 @@ func (p *Plan) Type1(dst, c []complex128, sign int) []complex128 {
 	} else if len(dst) != n*n {
 		panic(fmt.Sprintf("nufft: dst length %d, want %d", len(dst), n*n))
 	}
-	p.spread(c)
+	parallelRange(p.npts, func(_, lo, hi int) {
+		for s, k := range p.perm[lo:hi] {
+			p.sorted[lo+s] = c[k]
+		}
+	})
+	p.spread(p.sorted)
 	p.foldPadded()
 	// Only columns (modes m1) [0, n/2) ∪ [nf−n/2, nf) are needed.
 	p.fft.transform(p.fine, sign, nf, nf, n/2, nf-n/2)

@@ -228,3 +228,40 @@ func TestNewPlanErrors(t *testing.T) {
 		}
 	}
 }
+
+// The assembly kernels (where the CPU has AVX2 and FMA) and the portable
+// loops compute the same sums; they differ only by rounding (fused
+// multiply–adds), so they agree to 1e-14 relative.
+func TestKernelPaths(t *testing.T) {
+	if !haveAVX {
+		t.Skip("no AVX2/FMA on this CPU: only the portable loops run")
+	}
+	rnd := rand.New(rand.NewPCG(1, 1))
+	const n, m = 32, 3000
+	x, y := testPoints(rnd, m)
+	f := testGrid(rnd, n)
+	c := randomComplex(rnd, m)
+	for w := minWidth; w <= maxWidth; w++ {
+		tol := math.Pow(10, float64(1-w))
+		if tol < MinTol || tol > MaxTol {
+			continue
+		}
+		p, err := NewPlan(n, tol)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if p.Width() != w {
+			t.Fatalf("tol %g: width %d, want %d", tol, p.Width(), w)
+		}
+		p.SetPoints(x, y)
+		a2, a1 := p.Type2(nil, f, 1), p.Type1(nil, c, -1)
+		p.avx = false
+		b2, b1 := p.Type2(nil, f, 1), p.Type1(nil, c, -1)
+		if e := relErr(a2, b2); e > 1e-14 {
+			t.Errorf("w=%d: type 2 assembly vs portable: %g", w, e)
+		}
+		if e := relErr(a1, b1); e > 1e-14 {
+			t.Errorf("w=%d: type 1 assembly vs portable: %g", w, e)
+		}
+	}
+}

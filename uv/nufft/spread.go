@@ -7,7 +7,11 @@ package nufft
 // kernels_gen.go, unrolled for each kernel width.
 func (p *Plan) interpolate(dst []complex128) {
 	parallelItems(0, 1, p.nbands, func(_, band int) {
-		p.interpBand(p.bandAt[band], p.bandAt[band+1], dst)
+		if p.avx {
+			p.interpBandAVX(p.bandAt[band], p.bandAt[band+1], dst)
+		} else {
+			p.interpBand(p.bandAt[band], p.bandAt[band+1], dst)
+		}
 	})
 }
 
@@ -19,7 +23,11 @@ func (p *Plan) spread(c []complex128) {
 	clear(p.padded)
 	for phase := range 2 {
 		parallelItems(phase, 2, p.nbands, func(_, band int) {
-			p.spreadBand(p.bandAt[band], p.bandAt[band+1], c)
+			if p.avx {
+				p.spreadBandAVX(p.bandAt[band], p.bandAt[band+1], c)
+			} else {
+				p.spreadBand(p.bandAt[band], p.bandAt[band+1], c)
+			}
 		})
 	}
 }
