@@ -24,9 +24,8 @@ func (m *ColorMap) At(t float64) color.NRGBA {
 	if math.IsNaN(t) {
 		return NaNColor
 	}
-	k := int(t*255 + 0.5)
-	k = max(0, min(255, k))
-	return m.table[k]
+	t = math.Max(0, math.Min(1, t))
+	return m.table[int(t*255+0.5)]
 }
 
 func newColorMap(name string, f func(t float64) (r, g, b float64)) *ColorMap {

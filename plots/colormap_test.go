@@ -107,6 +107,8 @@ func TestColorMapAt(t *testing.T) {
 		{"below saturates", -3, Viridis.table[0]},
 		{"above saturates", 7, Viridis.table[255]},
 		{"NaN", math.NaN(), NaNColor},
+		{"+Inf", math.Inf(1), Viridis.table[255]},
+		{"-Inf", math.Inf(-1), Viridis.table[0]},
 		{"middle", 0.5, Viridis.table[128]},
 	} {
 		t.Run(tc.name, func(t *testing.T) {

@@ -1,0 +1,226 @@
+package plots
+
+import (
+	"math"
+	"math/rand/v2"
+)
+
+// gaussImage returns an N×N image of a sum of circular Gaussians (peak,
+// centre x, y arcsec, σ arcsec) plus optional noise of rms noise.
+func gaussImage(n int, pixel float64, comps [][4]float64, noise float64, rng *rand.Rand) SkyImage {
+	im := SkyImage{N: n, Pixel: pixel, Values: make([]float64, n*n)}
+	for j := range n {
+		for i := range n {
+			x, y := im.XY(i, j)
+			v := 0.0
+			for _, c := range comps {
+				dx, dy := x-c[1], y-c[2]
+				v += c[0] * math.Exp(-(dx*dx+dy*dy)/(2*c[3]*c[3]))
+			}
+			if noise > 0 {
+				v += noise * rng.NormFloat64()
+			}
+			im.Values[j*n+i] = v
+		}
+	}
+	return im
+}
+
+// ring returns a closed circle of radius r arcsec about (x0, y0).
+func ring(x0, y0, r float64, n int) Polyline {
+	pl := make(Polyline, n+1)
+	for k := range pl {
+		s, c := math.Sincos(2 * math.Pi * float64(k) / float64(n))
+		pl[k] = Point{X: x0 + r*c, Y: y0 + r*s}
+	}
+	return pl
+}
+
+// astroid returns the four-cusped caustic of an elliptical lens, roughly.
+func astroid(a float64, n int) Polyline {
+	pl := make(Polyline, n+1)
+	for k := range pl {
+		s, c := math.Sincos(2 * math.Pi * float64(k) / float64(n))
+		pl[k] = Point{X: a * c * c * c, Y: 0.7 * a * s * s * s}
+	}
+	return pl
+}
+
+func dirtyFixture(n int) DirtyImages {
+	rng := rand.New(rand.NewPCG(1, 1))
+	pix := 0.05
+	comps := [][4]float64{{2e-3, 0.4, 0.3, 0.12}, {1.5e-3, -0.5, -0.2, 0.1}, {0.8e-3, 0.1, -0.6, 0.08}}
+	data := gaussImage(n, pix, comps, 5e-5, rng)
+	model := gaussImage(n, pix, comps[:2], 0, rng)
+	res := SkyImage{N: n, Pixel: pix, Values: make([]float64, n*n)}
+	for k := range res.Values {
+		res.Values[k] = data.Values[k] - model.Values[k]
+	}
+	return DirtyImages{Data: data, Model: model, Residual: res, Sigma: 5e-5,
+		Beam: Beam{Major: 0.3, Minor: 0.18, PA: 30}, Critical: []Polyline{ring(0, 0, 0.55, 128)}}
+}
+
+// figureCase is one figure built from a fixed input of about n pixels a
+// side (or the equivalent amount of data).
+type figureCase struct {
+	name  string
+	build func(n int) (*Figure, error)
+}
+
+var figureCases = []figureCase{
+	{"uvcoverage", func(n int) (*Figure, error) { return UVCoverageFigure(uvFixture(n)) }},
+	{"visibilities", func(n int) (*Figure, error) { return VisibilityFigure(visFixture(n)) }},
+	{"dirty", func(n int) (*Figure, error) {
+		d := dirtyFixture(n)
+		return DirtyFigure(d)
+	}},
+	{"dirty-zoom", func(n int) (*Figure, error) {
+		d := dirtyFixture(n)
+		d.Zoom = &Box{XMin: -1, XMax: 1, YMin: -1, YMax: 1}
+		d.Sigma = 0
+		return DirtyFigure(d)
+	}},
+	{"source", func(n int) (*Figure, error) {
+		s := sourceFixture(n)
+		return SourceFigure(SourceImage{Image: s, Unit: "mJy/pixel", Scale: 1e3, Caustics: []Polyline{astroid(0.3, 200)}})
+	}},
+	{"source-sigma", func(n int) (*Figure, error) {
+		s := sourceFixture(n)
+		sig := s
+		sig.Values = make([]float64, len(s.Values))
+		for k, v := range s.Values {
+			sig.Values[k] = 2e-5 + 0.1*v
+		}
+		return SourceFigure(SourceImage{Image: s, Unit: "mJy/pixel", Scale: 1e3, Sigma: &sig, Caustics: []Polyline{astroid(0.3, 200)}})
+	}},
+	{"magnification", func(n int) (*Figure, error) { return MagnificationFigure(magFixture(n)) }},
+	{"corner", func(n int) (*Figure, error) { return CornerFigure(cornerFixture(n)) }},
+	{"trace", func(n int) (*Figure, error) { return TraceFigure(chainFixture(n)) }},
+	{"autocorr", func(n int) (*Figure, error) { return AutocorrFigure(chainFixture(n), 0) }},
+	{"probe", func(n int) (*Figure, error) { return ProbeFigure(probeFixture(n)) }},
+	{"predict", func(n int) (*Figure, error) { return PredictFigure(predictFixture(n)) }},
+	{"predict-curves", func(n int) (*Figure, error) {
+		pr := predictFixture(n)
+		pr.Lensed, pr.Source = SkyImage{}, SkyImage{}
+		return PredictFigure(pr)
+	}},
+}
+
+func uvFixture(n int) []UVSet {
+	rng := rand.New(rand.NewPCG(1, 1))
+	var sets []UVSet
+	for d, name := range []string{"band A", "band B"} {
+		s := UVSet{Label: name}
+		// Earth-rotation-like arcs: baselines of random length and angle,
+		// each traced over a range of hour angles.
+		for range n / 4 {
+			b := (50 + 400*rng.Float64()) * 1e3 * float64(d+1)
+			a0 := 2 * math.Pi * rng.Float64()
+			for h := range 4 * 4 {
+				a := a0 + 0.05*float64(h)
+				s.U = append(s.U, b*math.Cos(a))
+				s.V = append(s.V, 0.7*b*math.Sin(a))
+			}
+		}
+		sets = append(sets, s)
+	}
+	return sets
+}
+
+// visFixture is a 2 mJy point source 0.3″ east, 0.2″ north of the phase
+// centre plus a 5 mJy Gaussian at the centre, with noise; the model is the
+// noiseless truth.
+func visFixture(n int) Visibilities {
+	rng := rand.New(rand.NewPCG(1, 1))
+	m := n * 40
+	v := Visibilities{Shift: &Point{0.3, 0.2}}
+	const sigma = 2e-3 // Jy per visibility and part
+	l0, m0 := 0.3/arcsecPerRadian, 0.2/arcsecPerRadian
+	for range m {
+		u, w := (rng.Float64()*2-1)*8e5, (rng.Float64()*2-1)*8e5
+		g := 5e-3 * math.Exp(-2*math.Pi*math.Pi*(0.15/arcsecPerRadian)*(0.15/arcsecPerRadian)*(u*u+w*w))
+		ph := -2 * math.Pi * (u*l0 + w*m0)
+		re, im := g+2e-3*math.Cos(ph), 2e-3*math.Sin(ph)
+		v.U, v.V = append(v.U, u), append(v.V, w)
+		v.ModelRe, v.ModelIm = append(v.ModelRe, re), append(v.ModelIm, im)
+		v.Re, v.Im = append(v.Re, re+sigma*rng.NormFloat64()), append(v.Im, im+sigma*rng.NormFloat64())
+		v.Weight = append(v.Weight, 1/(sigma*sigma))
+	}
+	return v
+}
+
+func sourceFixture(n int) SkyImage {
+	rng := rand.New(rand.NewPCG(2, 1))
+	s := gaussImage(n, 1.2/float64(n), [][4]float64{{1e-4, 0.05, 0.02, 0.06}, {5e-5, -0.1, 0.1, 0.04}}, 0, rng)
+	return s
+}
+
+func magFixture(n int) MagnificationMap {
+	// Singular isothermal sphere of θ_E = 1″ with μ = 1/(1 − θ_E/θ)
+	// (Schneider, Ehlers & Falco 1992, §8.1.4): critical curve at θ = θ_E.
+	im := SkyImage{N: n, Pixel: 4.0 / float64(n), Values: make([]float64, n*n)}
+	for j := range n {
+		for i := range n {
+			x, y := im.XY(i, j)
+			im.Values[j*n+i] = 1 / (1 - 1/math.Hypot(x, y))
+		}
+	}
+	return MagnificationMap{Mu: im, Critical: []Polyline{ring(0, 0, 1, 200)}}
+}
+
+func cornerFixture(n int) Posterior {
+	rng := rand.New(rand.NewPCG(1, 1))
+	names := []string{"θ_E (arcsec)", "q", "PA (deg)", "flux (mJy)"}
+	ns := n * 40
+	p := Posterior{Names: names, Marker: []float64{1.2, 0.7, 30, 2.5}}
+	for range ns {
+		a, b := rng.NormFloat64(), rng.NormFloat64()
+		x := []float64{1.2 + 0.01*a, 0.7 + 0.03*(0.8*a+0.6*b), 30 + 2*rng.NormFloat64(), 2.5 + 0.2*rng.NormFloat64()}
+		p.Samples = append(p.Samples, x)
+		p.Weights = append(p.Weights, 0.5+rng.Float64())
+	}
+	return p
+}
+
+// chainFixture is an AR(1) walk per walker and parameter, coefficient 0.9
+// (integrated time 19).
+func chainFixture(n int) Chain {
+	rng := rand.New(rand.NewPCG(1, 1))
+	names := []string{"θ_E (arcsec)", "q", "γ"}
+	steps := n * 4
+	ch := Chain{Names: names}
+	for range 16 {
+		wk := make([][]float64, steps)
+		x := make([]float64, len(names))
+		for t := range steps {
+			row := make([]float64, len(names))
+			for k := range names {
+				x[k] = 0.9*x[k] + math.Sqrt(1-0.81)*rng.NormFloat64()
+				row[k] = float64(k+1) + 0.1*x[k]
+			}
+			wk[t] = row
+		}
+		ch.Samples = append(ch.Samples, wk)
+	}
+	return ch
+}
+
+func probeFixture(n int) Probe {
+	rng := rand.New(rand.NewPCG(1, 1))
+	im := gaussImage(n, 0.03, [][4]float64{{0.15e-3, 0.05, -0.03, 0.08}}, 3e-5, rng)
+	pr := Probe{Image: im, Beam: Beam{Major: 0.2, Minor: 0.15, PA: 60}, At: Point{0.05, -0.03},
+		Direct: Flux{0.16, 0.04}, Splits: []Flux{{0.12, 0.07}, {0.2, 0.07}, {0.15, 0.06}, {0.18, 0.08}}, Observed: 0.16}
+	for range 999 {
+		pr.Null = append(pr.Null, 0.04*rng.NormFloat64())
+	}
+	return pr
+}
+
+func predictFixture(n int) Prediction {
+	rng := rand.New(rand.NewPCG(1, 1))
+	lensed := gaussImage(n, 3.0/float64(n), [][4]float64{{1e-4, 0.8, 0.5, 0.06}, {0.6e-4, -0.6, -0.45, 0.05}}, 0, rng)
+	src := sourceFixture(n)
+	return Prediction{Lensed: lensed, Source: src, Unit: "mJy/pixel", Scale: 1e3,
+		Critical: []Polyline{ring(0, 0, 0.95, 200)}, Caustics: []Polyline{astroid(0.3, 200)},
+		Images: []Point{{0.8, 0.5}, {-0.6, -0.45}}, Sources: []Point{{0.05, 0.02}}}
+}
