@@ -35,7 +35,9 @@ type OptimizeRun struct {
 	Start, X []float64
 	// LogPost is ln L + ln π at X.
 	LogPost float64
-	// Evaluations counts the calls of LogLike of this start.
+	// Evaluations counts the objective evaluations of this start: calls
+	// of LogLike, plus points outside the prior's support, where the
+	// likelihood is not called.
 	Evaluations int
 	// Status is Converged when the last phase met its convergence
 	// test, NotConverged when it hit the evaluation cap.
@@ -215,8 +217,6 @@ func (o *optimizer) negLogPost(y []float64) float64 {
 func (o *optimizer) run(start []float64) (OptimizeRun, error) {
 	dim := o.p.Dim
 	run := OptimizeRun{Start: start, LogPost: math.Inf(-1), Status: NotConverged}
-	before := o.evals.Load()
-	defer func() { run.Evaluations = int(o.evals.Load() - before) }()
 	run.X = slices.Clone(start)
 	if o.ctx.Err() != nil {
 		run.Status = Interrupted
@@ -226,6 +226,8 @@ func (o *optimizer) run(start []float64) (OptimizeRun, error) {
 	for i := range y {
 		y[i] = (start[i] - o.centre[i]) / o.scale[i]
 	}
+	// calls counts this start's objective calls (LogLike calls, except
+	// those outside the prior's support that skip the likelihood).
 	var calls atomic.Int64
 	f := func(y []float64) float64 { calls.Add(1); return o.negLogPost(y) }
 	yb, fb, st := nelderMead(o.ctx, f, y, 0.05, o.maxEval)
@@ -246,6 +248,7 @@ func (o *optimizer) run(start []float64) (OptimizeRun, error) {
 	}
 	o.theta(run.X, yb)
 	run.LogPost = -fb
+	run.Evaluations = int(calls.Load())
 	switch st {
 	case minConverged:
 		run.Status = Converged
