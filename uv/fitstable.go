@@ -120,7 +120,7 @@ func (t *TableReader) openFITS(r io.Reader) error {
 	src := &fitsSource{tbl: tbl, n: int(tbl.NumRows())}
 	for i, c := range tbl.Cols() {
 		typ := c.Type()
-		if typ == nil {
+		if typ == nil || typ.Size() > 1<<16 {
 			return &ParseError{File: t.name, Column: i + 1, Field: c.Name, Err: cause(ErrNotNumber, "unsupported column format %q", c.Format)}
 		}
 		if lay.role(i) != roleNone && typ.Kind() != reflect.Bool {

@@ -250,7 +250,7 @@ func (t *TableReader) readLine() ([]byte, error) {
 		return nil, io.EOF
 	}
 	if err != bufio.ErrBufferFull {
-		return nil, err
+		return nil, t.readErr(err)
 	}
 	long := append([]byte(nil), line...)
 	for err == bufio.ErrBufferFull && len(long) <= maxLineBytes {
@@ -262,9 +262,15 @@ func (t *TableReader) readLine() ([]byte, error) {
 			Err: cause(ErrBinary, "line longer than %d bytes: not a visibility table", maxLineBytes)}
 	}
 	if err != nil && err != io.EOF {
-		return nil, err
+		return nil, t.readErr(err)
 	}
 	return long, err
+}
+
+// readErr reports a failure of the underlying reader (a truncated or
+// corrupt gzip stream, an I/O error) at the line being read.
+func (t *TableReader) readErr(err error) error {
+	return &ParseError{File: t.name, Line: t.line + 1, Err: fmt.Errorf("reading: %w", err)}
 }
 
 // Meta returns the dataset's metadata (after overrides; Sign is always −1
