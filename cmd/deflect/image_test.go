@@ -1,0 +1,124 @@
+package main
+
+import (
+	"bytes"
+	"image/png"
+	"math"
+	"math/rand/v2"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"deflect/uv"
+)
+
+// pointTable writes a noise-free table of a 2 mJy point source 0.6″ east and
+// 0.3″ north of the phase centre, seen by 12 m dishes at 300 GHz.
+func pointTable(t *testing.T, dir string) string {
+	t.Helper()
+	rnd := rand.New(rand.NewPCG(1, 1))
+	n := 1500
+	d := &uv.Dataset{Meta: uv.Meta{Label: "sim", Freq: 300e9, Dish: 12, RA: 40, Dec: -20, HasPhaseCentre: true},
+		U: make([]float64, n), V: make([]float64, n), Re: make([]float64, n), Im: make([]float64, n), Weight: make([]float64, n)}
+	for k := range n {
+		r, th := 2e5*math.Sqrt(0.05+0.95*rnd.Float64()), 2*math.Pi*rnd.Float64()
+		d.U[k], d.V[k] = r*math.Cos(th), r*math.Sin(th)
+		d.Weight[k] = 1e4
+	}
+	vis := uv.PredictPoints(nil, d.U, d.V, uv.PrimaryBeam{}, []float64{0.6}, []float64{0.3}, []float64{0.002})
+	for k, v := range vis {
+		d.Re[k], d.Im[k] = real(v), imag(v)
+	}
+	path := filepath.Join(dir, "sim.csv")
+	if err := uv.WriteTableFile(path, false, d); err != nil {
+		t.Fatal(err)
+	}
+	return path
+}
+
+func TestImageCommand(t *testing.T) {
+	dir := t.TempDir()
+	table := pointTable(t, dir)
+	out := filepath.Join(dir, "out")
+	var so, se bytes.Buffer
+	args := []string{"image", table, "-o", out, "--pixel", "0.1", "--size", "64"}
+	if code := runMain(args, &so, &se); code != 0 {
+		t.Fatalf("exit %d: %s", code, se.String())
+	}
+	if !strings.Contains(so.String(), "clean beam") || !strings.Contains(so.String(), "natural") {
+		t.Errorf("output: %s", so.String())
+	}
+	im, err := uv.ReadFITSImage(filepath.Join(out, "sim.dirty.fits"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if im.Grid != (uv.Grid{N: 64, Pixel: 0.1}) || im.Meta.BUnit != "JY/BEAM" || im.Meta.Beam == nil ||
+		!im.Meta.HasPhaseCentre || im.Meta.RA != 40 || im.Meta.Dec != -20 {
+		t.Errorf("FITS grid %+v meta %+v", im.Grid, im.Meta)
+	}
+	// The source is at pixel (32 − 6, 32 + 3) = (26, 35), 0.6″ east being
+	// 6 pixels toward smaller i; the simulation is noise-free and without a
+	// primary beam, so the peak is the flux, 2 mJy (to the NUFFT tolerance).
+	best := 0
+	for k, v := range im.Data {
+		if v > im.Data[best] {
+			best = k
+		}
+	}
+	if best%64 != 26 || best/64 != 35 || math.Abs(im.Data[best]-0.002) > 1e-6 {
+		t.Errorf("peak %v at (%d, %d), want 0.002 at (26, 35)", im.Data[best], best%64, best/64)
+	}
+	for _, f := range []string{"sim.dirty.png", "sim.beam.png"} {
+		fh, err := os.Open(filepath.Join(out, f))
+		if err != nil {
+			t.Fatal(err)
+		}
+		cfg, err := png.DecodeConfig(fh)
+		fh.Close()
+		if err != nil || cfg.Width < 300 || cfg.Height < 300 {
+			t.Errorf("%s: %v, %dx%d", f, err, cfg.Width, cfg.Height)
+		}
+	}
+	if _, err := uv.ReadFITSImage(filepath.Join(out, "sim.beam.fits")); err != nil {
+		t.Error(err)
+	}
+	// A non-empty directory is refused without --force, accepted with it.
+	if code := runMain(args, &so, &se); code != 1 {
+		t.Errorf("rerun without --force: exit %d, want 1", code)
+	}
+	args = append(args, "--force", "--weighting", "briggs", "--robust", "0.5", "--format", "svg")
+	if code := runMain(args, &so, &se); code != 0 {
+		t.Errorf("--force briggs svg: exit %d: %s", code, se.String())
+	}
+	if b, err := os.ReadFile(filepath.Join(out, "sim.dirty.svg")); err != nil || !bytes.Contains(b, []byte("<svg")) {
+		t.Errorf("svg figure: %v", err)
+	}
+}
+
+func TestImageUsage(t *testing.T) {
+	dir := t.TempDir()
+	table := pointTable(t, dir)
+	for _, tc := range []struct {
+		name string
+		args []string
+	}{
+		{"no files", []string{"image", "-o", dir}},
+		{"no -o", []string{"image", table}},
+		{"bad weighting", []string{"image", table, "-o", filepath.Join(dir, "a"), "--weighting", "heavy"}},
+		{"robust without briggs", []string{"image", table, "-o", filepath.Join(dir, "b"), "--robust", "1"}},
+		{"odd size", []string{"image", table, "-o", filepath.Join(dir, "c"), "--size", "63"}},
+		{"bad format", []string{"image", table, "-o", filepath.Join(dir, "d"), "--format", "gif"}},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			var so, se bytes.Buffer
+			if code := runMain(tc.args, &so, &se); code != 2 {
+				t.Errorf("exit %d, want 2; stderr %s", code, se.String())
+			}
+		})
+	}
+	var so, se bytes.Buffer
+	if code := runMain([]string{"image", filepath.Join(dir, "missing.csv"), "-o", filepath.Join(dir, "e")}, &so, &se); code != 1 {
+		t.Errorf("missing file: exit %d, want 1", code)
+	}
+}
