@@ -47,6 +47,8 @@ func BenchmarkDeflect(b *testing.B) {
 		{"powerlaw", PowerLaw{ThetaE: 1, Q: 0.7, PA: 30, Slope: 2.2}},
 		{"nfw", NFW{KappaS: 0.2, Rs: 5, Q: 1}},
 		{"nfw-elliptical", NFW{KappaS: 0.2, Rs: 5, Q: 0.9, PA: 30}},
+		{"gnfw", GNFW{KappaS: 0.2, Rs: 5, Gamma: 1.3, Q: 1}},
+		{"burkert", Burkert{KappaS: 0.2, Rs: 5, Q: 1}},
 		{"shear", Shear{Gamma: 0.1, Angle: 20}},
 		{"sheet", Sheet{KappaExt: 0.1}},
 	}

@@ -25,8 +25,8 @@ import (
 //	Ω_0 = e^{iφ},   Ω_n = −f ((2n − (2 − t))/(2n + (2 − t))) e^{2iφ} Ω_{n−1},
 //
 // the hypergeometric function ₂F₁(1, t/2; 2 − t/2; −f e^{2iφ}) summed by its
-// recurrence until the terms fall below 1e-16 of the sum (they decrease
-// geometrically by f). α is homogeneous of degree 1 − t, so the potential is
+// recurrence to the term n where f^n ≤ 1e-16 (|Ω_n| ≤ f^n, since the
+// factors (2n − (2 − t))/(2n + (2 − t)) are below 1 in magnitude). α is homogeneous of degree 1 − t, so the potential is
 // ψ = (x' α_x' + y' α_y')/(2 − t), and the shear γ₁ + iγ₂ = ∂α/∂z̄ follows
 // from Euler's relation z ∂α/∂z + z̄ ∂α/∂z̄ = (1 − t) α with ∂α/∂z = κ:
 //
@@ -108,12 +108,15 @@ type powerLawEval struct {
 	f    float64 // (1 − q)/(1 + q)
 	pre  float64 // 2b/(1 + q)
 	kpre float64 // (2 − t)/2
+	// terms is the number of series terms after Ω_0: |Ω_n| ≤ f^n, so
+	// f^terms ≤ 1e-16.
+	terms int
 }
 
 func (m PowerLaw) eval() powerLawEval {
 	q := m.Q
 	b := m.ThetaE * math.Sqrt(q)
-	return powerLawEval{
+	e := powerLawEval{
 		fr:   newFrame(m.X, m.Y, m.PA),
 		q:    q,
 		b:    b,
@@ -122,10 +125,25 @@ func (m PowerLaw) eval() powerLawEval {
 		pre:  2 * b / (1 + q),
 		kpre: (3 - m.Slope) / 2,
 	}
+	e.terms = powerLawTerms(e.f)
+	return e
+}
+
+// powerLawTerms returns the number of terms after the first for which
+// f^n ≤ 1e-16, at most maxPowerLawTerms.
+func powerLawTerms(f float64) int {
+	if f <= 0 {
+		return 0
+	}
+	n := math.Ceil(math.Log(1e-16) / math.Log(f))
+	if !(n < maxPowerLawTerms) {
+		return maxPowerLawTerms
+	}
+	return int(n)
 }
 
 // maxPowerLawTerms caps the series; the terms fall as f^n, so it is reached
-// only for q below ~0.02.
+// only for q below ~0.02 (f^4000 ≤ 1e-16 needs f ≤ 0.991).
 const maxPowerLawTerms = 4000
 
 // local returns the deflection along the axes at (x', y') ≠ (0, 0) and the
@@ -137,15 +155,12 @@ func (e *powerLawEval) local(xp, yp float64) (alpha complex128, rho float64) {
 	a := 2 - e.t
 	term := u
 	sum := u
-	for n := 1; n < maxPowerLawTerms; n++ {
+	for n := 1; n <= e.terms; n++ {
 		fn := float64(2 * n)
 		term *= u2 * complex((fn-a)/(fn+a), 0)
 		sum += term
-		if math.Abs(real(term))+math.Abs(imag(term)) <= 1e-16*(math.Abs(real(sum))+math.Abs(imag(sum))) {
-			break
-		}
 	}
-	scale := e.pre * math.Pow(e.b/rho, e.t-1)
+	scale := e.pre * math.Exp((e.t-1)*math.Log(e.b/rho))
 	return complex(scale, 0) * sum, rho
 }
 
@@ -160,7 +175,7 @@ func (e *powerLawEval) deflect(x, y float64) (ax, ay float64) {
 
 // kappaLocal returns κ at elliptical radius ρ = √q R.
 func (e *powerLawEval) kappaLocal(rho float64) float64 {
-	return e.kpre * math.Pow(e.b/rho, e.t)
+	return e.kpre * math.Exp(e.t*math.Log(e.b/rho))
 }
 
 func (e *powerLawEval) kappa(x, y float64) float64 {
