@@ -54,6 +54,7 @@ type Plan struct {
 	// a separate gather or scatter pass keeps the random accesses to the
 	// caller's array out of the kernel loops.
 	sorted []complex128
+	bin    []int32 // SetPoints scratch: each point's bin
 }
 
 // NewPlan returns a plan for n×n grids (n even, ≥ 2) at relative tolerance
@@ -103,8 +104,13 @@ func (p *Plan) Width() int { return p.w }
 const tileWidth = 32
 
 // SetPoints sets the points (x[k], y[k]) in radians for the following
-// transforms; any real values are allowed (the sums are 2π-periodic). The
-// plan copies what it needs: x and y may be changed afterwards.
+// transforms; any finite real values are allowed (the sums are 2π-periodic).
+// The plan copies what it needs: x and y may be changed afterwards. It panics
+// on a non-finite coordinate.
+//
+// The points are sorted, stably, into bins of hb fine-grid rows × 32 columns;
+// the transforms visit them in that order (which keeps the grid in cache) and
+// return results in the caller's order.
 func (p *Plan) SetPoints(x, y []float64) {
 	if len(x) != len(y) {
 		panic(fmt.Sprintf("nufft: len(x) = %d, len(y) = %d", len(x), len(y)))
@@ -122,39 +128,68 @@ func (p *Plan) SetPoints(x, y []float64) {
 		p.tx = make([]float64, m)
 		p.ty = make([]float64, m)
 		p.perm = make([]int32, m)
+		p.sorted = make([]complex128, m)
+		p.bin = make([]int32, m)
 	}
 	p.tx, p.ty, p.perm = p.tx[:m], p.ty[:m], p.perm[:m]
-	if cap(p.sorted) < m {
-		p.sorted = make([]complex128, m)
-	}
-	p.sorted = p.sorted[:m]
-	bin := make([]int32, m)
-	count := make([]int, nbin+1)
-	for k := range m {
-		tx := wrapGrid(x[k]*scale, nf)
-		ty := wrapGrid(y[k]*scale, nf)
-		if math.IsNaN(tx) || math.IsNaN(ty) {
+	p.sorted, p.bin = p.sorted[:m], p.bin[:m]
+	// A stable counting sort over fixed chunks: count per chunk, offsets in
+	// (bin, chunk) order, scatter per chunk. The permutation is the unique
+	// stable one, whatever the number of chunks.
+	nchunk := workers(m / 4096)
+	counts := make([]int, nchunk*nbin)
+	bad := make([]int, nchunk)
+	parallelRange(nchunk, func(_, clo, chi int) {
+		for ch := clo; ch < chi; ch++ {
+			bad[ch] = -1
+			cnt := counts[ch*nbin : (ch+1)*nbin]
+			for k := m * ch / nchunk; k < m*(ch+1)/nchunk; k++ {
+				tx := wrapGrid(x[k]*scale, nf)
+				ty := wrapGrid(y[k]*scale, nf)
+				if !(tx >= 0 && tx < float64(nf) && ty >= 0 && ty < float64(nf)) {
+					if bad[ch] < 0 {
+						bad[ch] = k
+					}
+					tx, ty = 0, 0
+				}
+				b := (int(ty)/p.hb)*ntile + int(tx)/tileWidth
+				p.bin[k] = int32(b)
+				cnt[b]++
+			}
+		}
+	})
+	for _, k := range bad {
+		if k >= 0 {
+			p.npts = 0
 			panic(fmt.Sprintf("nufft: point %d (%g, %g) is not finite", k, x[k], y[k]))
 		}
-		b := (int(ty)/p.hb)*ntile + int(tx)/tileWidth
-		bin[k] = int32(b)
-		count[b+1]++
 	}
-	for b := range nbin {
-		count[b+1] += count[b]
-	}
+	off := 0
 	p.bandAt = make([]int, p.nbands+1)
-	for b := range p.bandAt {
-		p.bandAt[b] = count[b*ntile]
+	for b := range nbin {
+		if b%ntile == 0 {
+			p.bandAt[b/ntile] = off
+		}
+		for ch := range nchunk {
+			c := counts[ch*nbin+b]
+			counts[ch*nbin+b] = off
+			off += c
+		}
 	}
-	for k := range m {
-		b := bin[k]
-		s := count[b]
-		count[b]++
-		p.perm[s] = int32(k)
-		p.tx[s] = wrapGrid(x[k]*scale, nf)
-		p.ty[s] = wrapGrid(y[k]*scale, nf)
-	}
+	p.bandAt[p.nbands] = off
+	parallelRange(nchunk, func(_, clo, chi int) {
+		for ch := clo; ch < chi; ch++ {
+			next := counts[ch*nbin : (ch+1)*nbin]
+			for k := m * ch / nchunk; k < m*(ch+1)/nchunk; k++ {
+				b := p.bin[k]
+				s := next[b]
+				next[b]++
+				p.perm[s] = int32(k)
+				p.tx[s] = wrapGrid(x[k]*scale, nf)
+				p.ty[s] = wrapGrid(y[k]*scale, nf)
+			}
+		}
+	})
 }
 
 // wrapGrid maps t to [0, nf).

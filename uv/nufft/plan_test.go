@@ -265,3 +265,20 @@ func TestKernelPaths(t *testing.T) {
 		}
 	}
 }
+
+func TestSetPointsNotFinite(t *testing.T) {
+	p, err := NewPlan(16, 1e-6)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, v := range []float64{math.NaN(), math.Inf(1), math.Inf(-1)} {
+		func() {
+			defer func() {
+				if r := recover(); r == nil {
+					t.Errorf("SetPoints with %g: no panic", v)
+				}
+			}()
+			p.SetPoints([]float64{0, v}, []float64{0, 0})
+		}()
+	}
+}
