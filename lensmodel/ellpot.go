@@ -49,8 +49,8 @@ func potentialEllipticity(kind string, q float64) (float64, error) {
 //	α'    = κ̄(R) (a1 x', a2 y'),
 //	ψ_ij  = 2 (κ − κ̄) n_i n_j + κ̄ a_i δ_ij,
 //
-// (Golse & Kneib 2002, A&A 390, 821, eqs. 8 and 9, written in this form for
-// the package), and the convergence of the elliptical potential is ½ tr ψ_ij.
+// (the elliptical potential of Golse & Kneib 2002, A&A 390, 821, written in
+// this form for the package and checked by finite differences), and the convergence of the elliptical potential is ½ tr ψ_ij.
 type ellPot struct {
 	f      frame
 	a1, a2 float64

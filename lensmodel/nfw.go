@@ -31,11 +31,12 @@ import "math"
 // +Inf (the cusp).
 //
 // References:
-//   - Bartelmann M., 1996, A&A 313, 697, eqs. 7 and 13 (κ and ψ, from
-//     memory).
-//   - Wright C. O., Brainerd T. G., 2000, ApJ 534, 34, eqs. 11 and 13
-//     (Σ(x) and the mean Σ̄(x) inside x; used as the independent check in the
-//     tests).
+//   - Bartelmann M., 1996, A&A 313, 697 (κ, α and ψ of the NFW lens; the
+//     forms above are from memory, equation numbers not checked, and are
+//     verified in the tests by α = ∇ψ, κ = ½∇·α and against WB00).
+//   - Wright C. O., Brainerd T. G., 2000, ApJ 534, 34, eqs. 11 and 13 as we
+//     recall the numbering (Σ(x) and the mean Σ̄(x) inside x; written out
+//     independently in the tests as the reference).
 //   - Golse G., Kneib J.-P., 2002, A&A 390, 821 (the elliptical potential).
 type NFW struct {
 	X, Y   float64 // centre, arcsec

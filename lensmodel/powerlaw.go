@@ -36,9 +36,10 @@ import (
 // and its limit for γ < 2) and κ and the Hessian diagonal as +Inf.
 //
 // References:
-//   - Tessore N., Metcalf R. B., 2015, A&A 580, A79, eqs. 13, 19 and 23
-//     (the deflection as a hypergeometric function and its recurrence; from
-//     memory, checked here by κ = ½∇·α, ∇×α = 0 and against the SIE at γ = 2).
+//   - Tessore N., Metcalf R. B., 2015, A&A 580, A79, sect. 3 (the
+//     deflection as ₂F₁(1, t/2; 2 − t/2; −f e^{2iφ}) and its recurrence;
+//     written from memory, equation numbers not checked; verified in the
+//     tests by κ = ½∇·α, ∇×α = 0, α = ∇ψ and against the SIE at γ = 2).
 type PowerLaw struct {
 	X, Y   float64 // centre, arcsec
 	ThetaE float64 // Einstein radius θ_E, arcsec

@@ -28,12 +28,13 @@ import "math"
 //
 // References:
 //   - Kormann R., Schneider P., Bartelmann M., 1994, A&A 284, 285
-//     (singular isothermal ellipsoid; the closed-form deflection in terms of
-//     the polar angle, used as the independent check in the tests).
+//     (singular isothermal ellipsoid; its closed-form deflection in terms of
+//     the polar angle, from memory, is the independent check in the tests).
 //   - Keeton C. R., Kochanek C. S., 1998, ApJ 495, 157, and Keeton C. R.,
 //     2001, arXiv:astro-ph/0102341, sect. 3 (the non-singular isothermal
 //     ellipsoid: α and ψ above, there with κ = b_K/(2 √(s² + x² + y²/q²)),
-//     i.e. b_K q = b). The Hessian used here is the analytic derivative of
+//     i.e. b_K q = b; from memory, equation numbers not checked; the
+//     normalisation is pinned by the mean-κ test and κ = ½∇·α). The Hessian used here is the analytic derivative of
 //     that α, derived for this package and checked by finite differences.
 type SIE struct {
 	X, Y   float64 // centre, arcsec
