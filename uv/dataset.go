@@ -20,6 +20,8 @@ type Meta struct {
 	HasPhaseCentre bool
 	// Sign is the exponent sign of the export: −1 (the convention of this
 	// package, also the default when zero) or +1 (conjugated on input).
+	// A Dataset always holds the −1 convention: the table readers negate Im
+	// for +1 exports and then set Sign to −1.
 	Sign int
 }
 

@@ -15,6 +15,33 @@ import (
 	"unicode/utf8"
 )
 
+// The text table format
+//
+// One visibility per line. Blank lines and lines starting with '#' are
+// comments, except metadata lines "# key: value" before the header (keys:
+// label, freq in Hz or with kHz/MHz/GHz, dish in m, phase-centre RA_DEG
+// DEC_DEG, sign −1 or +1; unknown keys are noted in the report). The first
+// other line is the header; its delimiter decides the table's: a comma, a
+// tab, or runs of spaces and tabs. Columns are found by name, any case and
+// order:
+//
+//	u, v [, w]                 wavelengths   (or u_m, v_m [, w_m] metres,
+//	                                          u_klambda, v_klambda [, w_klambda])
+//	re (real), im (imag)       Jy
+//	weight (1/σ², Jy⁻²) or sigma (Jy, per real and imaginary part)
+//	optional: freq (Hz), time (s), ant1, ant2, spw, chan (integers ≥ 0),
+//	          flag (0/1, true/false)
+//
+// Metres are converted with the row's freq or the "# freq:" line, kλ are
+// multiplied by 1000; a w column takes the unit of u and v. Unknown columns
+// are ignored and listed once. Values are checked (finite; weight, sigma
+// and freq > 0; integers in range) and a bad row is an error naming file,
+// line, column and value, or, with ReadOptions.SkipBad, is skipped and
+// counted. Flagged rows are kept (with Flag set) and their re, im, weight
+// and sigma may be non-finite or ≤ 0, as exports often write them.
+// Autocorrelations (u = v = 0) are left out and counted. Quoted fields
+// (CSV quoting) are not supported, except around header names.
+
 // DefaultChunkRows is the chunk size of a TableReader when
 // ReadOptions.ChunkRows is zero.
 const DefaultChunkRows = 1 << 16

@@ -480,3 +480,47 @@ func TestMemoryPerVisibility(t *testing.T) {
 		t.Errorf("frequency table %v, want %v", got.Freqs[:3], d.Freqs[:3])
 	}
 }
+
+func TestExampleTablesAgree(t *testing.T) {
+	// testdata/tables holds the same fictional visibilities in three forms
+	// (make_tables.py): metres + weight, kλ + sigma, and a sign +1 export
+	// in wavelengths with im negated. Read back, all agree to the printed
+	// precision.
+	dir := filepath.Join("..", "testdata", "tables")
+	a, _, err := ReadFile(filepath.Join(dir, "example.csv"), ReadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	k, _, err := ReadFile(filepath.Join(dir, "example-klambda.txt"), ReadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	s, _, err := ReadFile(filepath.Join(dir, "example-sign.tsv"), ReadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if a.Meta.Label != "example array, band 6" || a.Meta.Dish != 12 || !a.Meta.HasPhaseCentre || a.Meta.Dec != -12.5 {
+		t.Errorf("example.csv meta %+v", a.Meta)
+	}
+	j := 0 // rows of k skip the flagged rows of a
+	for i := range a.Len() {
+		if a.Flagged(i) {
+			continue
+		}
+		// u_m is printed to 0.1 mm (0.04 λ at 230 GHz), u_klambda to 0.01 λ.
+		if math.Abs(k.U[j]-a.U[i]) > 0.05 {
+			t.Fatalf("row %d: u %v (kλ form), %v (metres)", i, k.U[j], a.U[i])
+		}
+		closeTo(t, "re (kλ form)", k.Re[j], a.Re[i], 1e-6)
+		closeTo(t, "weight from sigma", k.Weight[j], a.Weight[i], 1e-12)
+		j++
+	}
+	for i := range s.Len() {
+		if math.Abs(s.U[i]-a.U[i]) > 0.05 {
+			t.Fatalf("row %d: u %v (sign form), %v (metres)", i, s.U[i], a.U[i])
+		}
+		if s.Im[i] != a.Im[i] {
+			t.Fatalf("row %d: conjugated im %v, want %v", i, s.Im[i], a.Im[i])
+		}
+	}
+}
