@@ -17,7 +17,7 @@ const DefaultAutocorrWindow = 5.0
 // of one parameter from several chains of equal length (series[w][i] is
 // step i of chain w, e.g. one walker of an ensemble). The normalised
 // autocorrelation function ρ of each chain is computed by FFT (zero padded
-// to a power of two ≥ 2n, so without wrap-around) about the chain's own
+// to a length ≥ 2n, so without wrap-around) about the chain's own
 // mean, and the functions are averaged over chains before summing. The
 // window M is the smallest M ≥ c τ(M) (Sokal's automated windowing; c = 5
 // when c ≤ 0). ok is false when no such window exists within the chains,
@@ -42,29 +42,26 @@ type acf struct {
 	fft   *fourier.FFT
 	pad   []float64
 	coeff []complex128
+	power []complex128
 	seq   []float64
 	sum   []float64
 }
 
 // mean returns the chain-averaged normalised autocorrelation function
-// ρ(t), t = 0 … n−1. The returned slice is reused by the next call.
+// ρ(t), t = 0 … n−1. Each chain's power spectrum is normalised by its
+// variance before summing, so that one inverse transform gives the mean of
+// the normalised functions. The returned slice is reused by the next call.
 func (a *acf) mean(series [][]float64) []float64 {
 	n := len(series[0])
-	m := 1
-	for m < 2*n {
-		m <<= 1
-	}
+	m := fftSize(2 * n)
 	if a.fft == nil || a.fft.Len() != m {
 		a.fft = fourier.NewFFT(m)
 		a.pad = make([]float64, m)
 		a.seq = make([]float64, m)
 		a.coeff = make([]complex128, m/2+1)
+		a.power = make([]complex128, m/2+1)
 	}
-	if cap(a.sum) < n {
-		a.sum = make([]float64, n)
-	}
-	a.sum = a.sum[:n]
-	clear(a.sum)
+	clear(a.power)
 	used := 0
 	for _, x := range series {
 		if len(x) != n {
@@ -76,24 +73,28 @@ func (a *acf) mean(series [][]float64) []float64 {
 		}
 		mu /= float64(n)
 		clear(a.pad)
+		var ss float64
 		for i, v := range x {
 			a.pad[i] = v - mu
+			ss += a.pad[i] * a.pad[i]
 		}
-		a.coeff = a.fft.Coefficients(a.coeff, a.pad)
-		for i, z := range a.coeff {
-			a.coeff[i] = complex(real(z)*real(z)+imag(z)*imag(z), 0)
-		}
-		a.seq = a.fft.Sequence(a.seq, a.coeff)
-		c0 := a.seq[0]
-		if !(c0 > 0) {
+		if !(ss > 0) {
 			// A chain that never moved carries no information on ρ.
 			continue
 		}
-		for t := range n {
-			a.sum[t] += a.seq[t] / c0
+		a.coeff = a.fft.Coefficients(a.coeff, a.pad)
+		// gonum's unnormalised inverse of |X|² is m times the
+		// autocovariance sum, m Σ_i x_i x_{i+t}; divide by m Σ x_i².
+		norm := 1 / (float64(m) * ss)
+		for i, z := range a.coeff {
+			a.power[i] += complex((real(z)*real(z)+imag(z)*imag(z))*norm, 0)
 		}
 		used++
 	}
+	if cap(a.sum) < n {
+		a.sum = make([]float64, n)
+	}
+	a.sum = a.sum[:n]
 	if used == 0 {
 		// Constant chains: report ρ ≡ 1 so that τ grows with the window
 		// and the caller sees no convergence.
@@ -102,10 +103,30 @@ func (a *acf) mean(series [][]float64) []float64 {
 		}
 		return a.sum
 	}
+	a.seq = a.fft.Sequence(a.seq, a.power)
 	for t := range a.sum {
-		a.sum[t] /= float64(used)
+		a.sum[t] = a.seq[t] / float64(used)
 	}
 	return a.sum
+}
+
+// fftSize returns the smallest 2^a 3^b 5^c ≥ n, a length gonum's FFT
+// handles efficiently.
+func fftSize(n int) int {
+	best := 1
+	for best < n {
+		best <<= 1
+	}
+	for p5 := 1; p5 < best; p5 *= 5 {
+		for p35 := p5; p35 < best; p35 *= 3 {
+			m := p35
+			for m < n {
+				m <<= 1
+			}
+			best = min(best, m)
+		}
+	}
+	return best
 }
 
 // windowTau applies the automated windowing to ρ.

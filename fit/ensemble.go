@@ -35,7 +35,8 @@ type EnsembleSettings struct {
 	// means DefaultAutocorrWindow (5).
 	Window float64
 	// CheckEvery is the least number of steps between two estimates
-	// of τ (the gap grows to a tenth of the chain length); zero means 100.
+	// of τ (the gap grows to a tenth of the chain length, or half the
+	// steps still needed by the last estimate); zero means 100.
 	CheckEvery int
 
 	// BurnIn is the number of initial steps discarded from Samples;
@@ -452,11 +453,20 @@ func (e *ensemble) checkConvergence() {
 	n := e.st.Step
 	if n >= e.st.NextCheck || n >= e.cfg.maxSteps {
 		e.st.Tau, e.st.TauOK = chainTaus(e.st.Chain, 0, e.cfg.window)
-		e.st.NextCheck = n + max(e.cfg.checkEvery, n/10)
-		if e.st.TauOK && float64(n) > e.cfg.tauFactor*slices.Max(e.st.Tau) {
+		target := e.cfg.tauFactor * slices.Max(e.st.Tau)
+		if e.st.TauOK && float64(n) > target {
 			e.st.Done, e.st.Status = true, Converged
 			return
 		}
+		// The next estimate comes after CheckEvery steps or a tenth of
+		// the chain, or half way to the length the current τ asks for
+		// when that is further: τ costs O(n log n) per estimate, and an
+		// estimate far short of the target cannot pass.
+		gap := max(e.cfg.checkEvery, n/10)
+		if e.st.TauOK && !math.IsInf(target, 0) {
+			gap = max(gap, int((target-float64(n))/2))
+		}
+		e.st.NextCheck = n + gap
 	}
 	if n >= e.cfg.maxSteps {
 		e.st.Done, e.st.Status = true, NotConverged
