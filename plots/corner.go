@@ -374,10 +374,16 @@ func (l refLine) Plot(c draw.Canvas, p *plot.Plot) {
 	c.StrokeLines(l.ls, c.ClipLinesXY(pts)...)
 }
 
-// fewTicks places two to four labelled ticks at a round step (1, 2 or 5
-// times a power of ten), with one unlabelled tick between, so that the
-// labels of small panels do not run into each other; labels carry as many
-// decimals as the step needs.
+// fewTicks labels two to four ticks at a round step (1, 2, 2.5, 4 or 5
+// times a power of ten; the step giving closest to three labels, the fewer
+// on a tie), with an unlabelled tick halfway between, so that the labels of
+// small panels do not run into each other; labels carry as many decimals as
+// the step needs.
+//
+// References:
+//   - J. Talbot, S. Lin & P. Hanrahan (2010), "An extension of Wilkinson's
+//     algorithm for positioning tick labels on axes", IEEE Trans. Vis.
+//     Comput. Graph. 16, 1036 (the nice-number set).
 type fewTicks struct{}
 
 func (fewTicks) Ticks(lo, hi float64) []plot.Tick {
@@ -385,24 +391,42 @@ func (fewTicks) Ticks(lo, hi float64) []plot.Tick {
 	if !(span > 0) || math.IsInf(span, 0) {
 		return minusTicks{}.Ticks(lo, hi)
 	}
-	// The round step giving closest to three labels.
-	mag := math.Pow(10, math.Floor(math.Log10(span/3)))
-	step, best := mag, math.Inf(1)
-	for _, m := range []float64{0.5, 1, 2, 5, 10} {
-		if d := math.Abs(span/(m*mag) - 3); d < best {
-			step, best = m*mag, d
+	count := func(step float64) int {
+		return int(math.Floor(hi/step+1e-9) - math.Ceil(lo/step-1e-9) + 1)
+	}
+	e := math.Floor(math.Log10(span))
+	step, best, bestN := 0.0, math.MaxInt, 0
+	for k := e - 2; k <= e+1; k++ {
+		for _, m := range []float64{1, 2, 2.5, 4, 5} {
+			st := m * math.Pow(10, k)
+			n := count(st)
+			d := n - 3
+			if d < 0 {
+				d = -d
+			}
+			if d < best || d == best && n < bestN {
+				step, best, bestN = st, d, n
+			}
 		}
 	}
-	dec := max(0, int(-math.Floor(math.Log10(step)+1e-9)))
+	dec := 0
+	for dec < 12 {
+		v := step * math.Pow(10, float64(dec))
+		if math.Abs(v-math.Round(v)) < 1e-6*v {
+			break
+		}
+		dec++
+	}
 	var ts []plot.Tick
 	for k := math.Ceil(lo/step*2 - 1e-9); k/2*step <= hi+1e-9*span; k++ {
 		v := k / 2 * step
 		t := plot.Tick{Value: v}
-		if int(k)%2 == 0 {
-			t.Label = minusSign(strconv.FormatFloat(v+0, 'f', dec, 64))
-			if t.Label == "−"+strconv.FormatFloat(0, 'f', dec, 64) {
-				t.Label = t.Label[len("−"):]
+		if math.Mod(k, 2) == 0 {
+			t.Label = strconv.FormatFloat(v, 'f', dec, 64)
+			if t.Label == "-"+strconv.FormatFloat(0, 'f', dec, 64) {
+				t.Label = t.Label[1:]
 			}
+			t.Label = minusSign(t.Label)
 		}
 		ts = append(ts, t)
 	}

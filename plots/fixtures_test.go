@@ -60,49 +60,78 @@ func dirtyFixture(n int) DirtyImages {
 		Beam: Beam{Major: 0.3, Minor: 0.18, PA: 30}, Critical: []Polyline{ring(0, 0, 0.55, 128)}}
 }
 
-// figureCase is one figure built from a fixed input of about n pixels a
-// side (or the equivalent amount of data).
+// figureCase is one figure: prepare makes its fixed input of about n pixels
+// a side (or the equivalent amount of data) and returns the function that
+// draws it, so that benchmarks time the figure, not the fixture.
 type figureCase struct {
-	name  string
-	build func(n int) (*Figure, error)
+	name    string
+	prepare func(n int) func() (*Figure, error)
 }
 
+// build prepares and draws a case.
+func (c figureCase) build(n int) (*Figure, error) { return c.prepare(n)() }
+
 var figureCases = []figureCase{
-	{"uvcoverage", func(n int) (*Figure, error) { return UVCoverageFigure(uvFixture(n)) }},
-	{"visibilities", func(n int) (*Figure, error) { return VisibilityFigure(visFixture(n)) }},
-	{"dirty", func(n int) (*Figure, error) {
-		d := dirtyFixture(n)
-		return DirtyFigure(d)
+	{"uvcoverage", func(n int) func() (*Figure, error) {
+		in := uvFixture(n)
+		return func() (*Figure, error) { return UVCoverageFigure(in) }
 	}},
-	{"dirty-zoom", func(n int) (*Figure, error) {
-		d := dirtyFixture(n)
-		d.Zoom = &Box{XMin: -1, XMax: 1, YMin: -1, YMax: 1}
-		d.Sigma = 0
-		return DirtyFigure(d)
+	{"visibilities", func(n int) func() (*Figure, error) {
+		in := visFixture(n)
+		return func() (*Figure, error) { return VisibilityFigure(in) }
 	}},
-	{"source", func(n int) (*Figure, error) {
-		s := sourceFixture(n)
-		return SourceFigure(SourceImage{Image: s, Unit: "mJy/pixel", Scale: 1e3, Caustics: []Polyline{astroid(0.3, 200)}})
+	{"dirty", func(n int) func() (*Figure, error) {
+		in := dirtyFixture(n)
+		return func() (*Figure, error) { return DirtyFigure(in) }
 	}},
-	{"source-sigma", func(n int) (*Figure, error) {
+	{"dirty-zoom", func(n int) func() (*Figure, error) {
+		in := dirtyFixture(n)
+		in.Zoom = &Box{XMin: -1, XMax: 1, YMin: -1, YMax: 1}
+		in.Sigma = 0
+		return func() (*Figure, error) { return DirtyFigure(in) }
+	}},
+	{"source", func(n int) func() (*Figure, error) {
+		in := SourceImage{Image: sourceFixture(n), Unit: "mJy/pixel", Scale: 1e3, Caustics: []Polyline{astroid(0.3, 200)}}
+		return func() (*Figure, error) { return SourceFigure(in) }
+	}},
+	{"source-sigma", func(n int) func() (*Figure, error) {
 		s := sourceFixture(n)
 		sig := s
 		sig.Values = make([]float64, len(s.Values))
 		for k, v := range s.Values {
 			sig.Values[k] = 2e-5 + 0.1*v
 		}
-		return SourceFigure(SourceImage{Image: s, Unit: "mJy/pixel", Scale: 1e3, Sigma: &sig, Caustics: []Polyline{astroid(0.3, 200)}})
+		in := SourceImage{Image: s, Unit: "mJy/pixel", Scale: 1e3, Sigma: &sig, Caustics: []Polyline{astroid(0.3, 200)}}
+		return func() (*Figure, error) { return SourceFigure(in) }
 	}},
-	{"magnification", func(n int) (*Figure, error) { return MagnificationFigure(magFixture(n)) }},
-	{"corner", func(n int) (*Figure, error) { return CornerFigure(cornerFixture(n)) }},
-	{"trace", func(n int) (*Figure, error) { return TraceFigure(chainFixture(n)) }},
-	{"autocorr", func(n int) (*Figure, error) { return AutocorrFigure(chainFixture(n), 0) }},
-	{"probe", func(n int) (*Figure, error) { return ProbeFigure(probeFixture(n)) }},
-	{"predict", func(n int) (*Figure, error) { return PredictFigure(predictFixture(n)) }},
-	{"predict-curves", func(n int) (*Figure, error) {
-		pr := predictFixture(n)
-		pr.Lensed, pr.Source = SkyImage{}, SkyImage{}
-		return PredictFigure(pr)
+	{"magnification", func(n int) func() (*Figure, error) {
+		in := magFixture(n)
+		return func() (*Figure, error) { return MagnificationFigure(in) }
+	}},
+	{"corner", func(n int) func() (*Figure, error) {
+		in := cornerFixture(n)
+		return func() (*Figure, error) { return CornerFigure(in) }
+	}},
+	{"trace", func(n int) func() (*Figure, error) {
+		in := chainFixture(n)
+		return func() (*Figure, error) { return TraceFigure(in) }
+	}},
+	{"autocorr", func(n int) func() (*Figure, error) {
+		in := chainFixture(n)
+		return func() (*Figure, error) { return AutocorrFigure(in, 0) }
+	}},
+	{"probe", func(n int) func() (*Figure, error) {
+		in := probeFixture(n)
+		return func() (*Figure, error) { return ProbeFigure(in) }
+	}},
+	{"predict", func(n int) func() (*Figure, error) {
+		in := predictFixture(n)
+		return func() (*Figure, error) { return PredictFigure(in) }
+	}},
+	{"predict-curves", func(n int) func() (*Figure, error) {
+		in := predictFixture(n)
+		in.Lensed, in.Source = SkyImage{}, SkyImage{}
+		return func() (*Figure, error) { return PredictFigure(in) }
 	}},
 }
 
