@@ -1,0 +1,315 @@
+package main
+
+import (
+	"bytes"
+	"encoding/json"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"math"
+	"path/filepath"
+	"strconv"
+	"strings"
+
+	"deflect/internal/atomicfile"
+	"deflect/lensmodel"
+)
+
+// predictLensFlags collects repeated --lens values.
+type predictLensFlags []string
+
+func (l *predictLensFlags) String() string { return strings.Join(*l, " ") }
+func (l *predictLensFlags) Set(s string) error {
+	*l = append(*l, s)
+	return nil
+}
+
+func init() {
+	var (
+		sourcePos string
+		flux      float64
+		outDir    string
+		force     bool
+		lenses    predictLensFlags
+		zl, zs    float64
+		h0, om    float64
+		ode       float64
+	)
+	register(&command{
+		name:    "predict",
+		summary: "list the images of a point source behind a lens model, with μ, time delays and fluxes",
+		usage:   "MODEL --source X,Y [--flux MJY] [-o DIR] [--force] | --lens KIND:K=V,... [--zl Z --zs Z]",
+		help: `Finds every image of a point source at --source (arcsec, x east, y north)
+behind the lens of MODEL, a model file with a [cosmology] table and [[lens]]
+tables of plain numbers (the fit model file; free parameters are taken at
+their start values), or behind the components given by repeated --lens
+flags, e.g. --lens 'sie:x=0,y=0,theta_e=1.2,q=0.8,pa=30' --lens
+'shear:gamma=0.05,angle=20'.
+
+Lens kinds and parameters (arcsec, degrees east of north):
+  point     x, y, theta_e
+  sie       x, y, theta_e, q (1), pa (0), core (0)
+  powerlaw  x, y, theta_e, q (1), pa (0), slope (2, the 3-D slope)
+  nfw       x, y, kappa_s, r_s, q (1), pa (0); or m200 (M_sun) and c with a cosmology
+  shear     gamma, angle (0)
+  sheet     kappa
+
+For each image: position, signed magnification μ (negative for saddle
+points), parity and kind (minimum, saddle or maximum of the arrival time),
+the time delay in days after the first-arriving image (needs the
+cosmology), and the flux |μ| × --flux. Also printed: the Einstein radius
+(the circle about the first component's centre with mean convergence 1)
+and the projected mass inside it, M = π θ_E² Σ_cr. When a component's
+centre is singular (an SIE without core, a point mass, a steep cusp) the
+central image is infinitely demagnified, and the output says so.
+
+With -o DIR: writes predict.json with the same numbers and predict.png
+with the critical curves, caustics, source and images (east left, north
+up); a non-empty DIR is refused without --force.`,
+		setFlags: func(fs *flag.FlagSet) {
+			fs.StringVar(&sourcePos, "source", "", "source position `X,Y` in arcsec (x east, y north); required")
+			fs.Float64Var(&flux, "flux", 1, "source flux in `MJY`")
+			fs.StringVar(&outDir, "o", "", "write predict.json and predict.png to `DIR`")
+			fs.BoolVar(&force, "force", false, "write into a non-empty -o DIR, replacing files")
+			lenses = nil // fs.Var keeps the old value; each run starts empty
+			fs.Var(&lenses, "lens", "a lens component `KIND:K=V,...` instead of MODEL (repeatable)")
+			fs.Float64Var(&zl, "zl", 0, "lens redshift with --lens (for time delays and masses)")
+			fs.Float64Var(&zs, "zs", 0, "source redshift with --lens")
+			fs.Float64Var(&h0, "H0", 70, "Hubble constant in km/s/Mpc with --lens")
+			fs.Float64Var(&om, "Om", 0.3, "matter density Ωm with --lens")
+			fs.Float64Var(&ode, "Ode", math.NaN(), "dark-energy density ΩΛ with --lens (default 1 − Ωm, flat)")
+		},
+		run: func(env *runEnv, args []string) error {
+			if sourcePos == "" {
+				return usagef("--source X,Y is required")
+			}
+			bx, by, err := predictParsePair(sourcePos)
+			if err != nil {
+				return usagef("--source: %v", err)
+			}
+			if !(flux >= 0) || math.IsInf(flux, 0) {
+				return usagef("--flux must be a number ≥ 0, got %v", flux)
+			}
+			var pm *predictModel
+			switch {
+			case len(args) > 1:
+				return usagef("one MODEL file, got %d arguments", len(args))
+			case len(args) == 1 && len(lenses) > 0:
+				return usagef("give either MODEL or --lens, not both")
+			case len(args) == 1:
+				if zl != 0 || zs != 0 {
+					return usagef("--zl and --zs go with --lens; MODEL has its own [cosmology]")
+				}
+				if pm, err = readPredictModel(args[0]); err != nil {
+					return err
+				}
+			case len(lenses) > 0:
+				pm = &predictModel{}
+				if zl != 0 || zs != 0 {
+					c := &predictCosmo{zl: zl, zs: zs, c: lensmodel.FlatLambdaCDM(h0, om)}
+					if !math.IsNaN(ode) {
+						c.c.Ode = ode
+					}
+					if err := c.check(); err != nil {
+						return usagef("%v", err)
+					}
+					pm.cosmo = c
+				}
+				for _, s := range lenses {
+					spec, err := predictParseLensFlag(s)
+					if err != nil {
+						return usagef("%v", err)
+					}
+					pm.specs = append(pm.specs, spec)
+				}
+				if err := pm.build(); err != nil {
+					return usagef("%v", err)
+				}
+			default:
+				return usagef("no MODEL file or --lens given")
+			}
+			if outDir != "" {
+				if err := atomicfile.PrepareDir(outDir, force); err != nil {
+					return err
+				}
+			}
+			res, err := computePrediction(pm, bx, by, flux)
+			if err != nil {
+				return err
+			}
+			writePrediction(env.stdout, res)
+			if outDir == "" {
+				return nil
+			}
+			js, err := json.MarshalIndent(res, "", "  ")
+			if err != nil {
+				return err
+			}
+			if err := atomicfile.WriteBytes(filepath.Join(outDir, "predict.json"), force, append(js, '\n')); err != nil {
+				return err
+			}
+			curves, err := lensmodel.CriticalCurves(pm.lens, lensmodel.CurveOptions{})
+			if err != nil {
+				return fmt.Errorf("critical curves for the figure: %w", err)
+			}
+			var png bytes.Buffer
+			if err := predictPlot(&png, curves, res); err != nil {
+				return err
+			}
+			return atomicfile.WriteBytes(filepath.Join(outDir, "predict.png"), force, png.Bytes())
+		},
+	})
+}
+
+func predictParsePair(s string) (x, y float64, err error) {
+	a, b, ok := strings.Cut(s, ",")
+	if !ok {
+		return 0, 0, fmt.Errorf("%q: want X,Y", s)
+	}
+	if x, err = strconv.ParseFloat(strings.TrimSpace(a), 64); err != nil || math.IsInf(x, 0) || math.IsNaN(x) {
+		return 0, 0, fmt.Errorf("%q: X is not a finite number", s)
+	}
+	if y, err = strconv.ParseFloat(strings.TrimSpace(b), 64); err != nil || math.IsInf(y, 0) || math.IsNaN(y) {
+		return 0, 0, fmt.Errorf("%q: Y is not a finite number", s)
+	}
+	return x, y, nil
+}
+
+// predictImage is one row of the image table (and of predict.json).
+type predictImage struct {
+	X      float64  `json:"x_arcsec"`
+	Y      float64  `json:"y_arcsec"`
+	Mu     float64  `json:"mu"`
+	Parity int      `json:"parity"`
+	Kind   string   `json:"kind"`
+	Delay  *float64 `json:"delay_days,omitempty"`
+	Flux   float64  `json:"flux_mjy"`
+}
+
+type predictCosmoJSON struct {
+	H0, Om, Ode float64
+	ZLens       float64 `json:"z_lens"`
+	ZSource     float64 `json:"z_source"`
+	DL          float64 `json:"D_l_Mpc"`
+	DS          float64 `json:"D_s_Mpc"`
+	DLS         float64 `json:"D_ls_Mpc"`
+	SigmaCrit   float64 `json:"sigma_crit_msun_per_arcsec2"`
+	DelayScale  float64 `json:"days_per_arcsec2"`
+}
+
+// predictResult is everything predict reports.
+type predictResult struct {
+	SourceX    float64            `json:"source_x_arcsec"`
+	SourceY    float64            `json:"source_y_arcsec"`
+	SourceFlux float64            `json:"source_flux_mjy"`
+	Lens       []predictLensSpec  `json:"lens"`
+	Cosmology  *predictCosmoJSON  `json:"cosmology,omitempty"`
+	Images     []predictImage     `json:"images"`
+	TotalMu    float64            `json:"total_abs_mu"`
+	TotalFlux  float64            `json:"total_flux_mjy"`
+	ThetaE     *float64           `json:"einstein_radius_arcsec,omitempty"`
+	ThetaEAt   *[2]float64        `json:"einstein_radius_centre_arcsec,omitempty"`
+	ThetaENote string             `json:"einstein_radius_note,omitempty"`
+	MassInside *float64           `json:"mass_inside_einstein_radius_msun,omitempty"`
+	Singular   []lensmodel.Centre `json:"singular_centres_arcsec"`
+	Central    string             `json:"central_image_note,omitempty"`
+}
+
+func computePrediction(pm *predictModel, bx, by, flux float64) (*predictResult, error) {
+	res := &predictResult{SourceX: bx, SourceY: by, SourceFlux: flux, Lens: pm.specs, Images: []predictImage{}}
+	opt := lensmodel.ImageOptions{}
+	if c := pm.cosmo; c != nil {
+		dl, ds, dls := c.c.LensDistances(c.zl, c.zs)
+		res.Cosmology = &predictCosmoJSON{
+			H0: c.c.H0, Om: c.c.Om, Ode: c.c.Ode, ZLens: c.zl, ZSource: c.zs,
+			DL: dl, DS: ds, DLS: dls,
+			SigmaCrit:  c.c.SigmaCrit(c.zl, c.zs),
+			DelayScale: c.c.DelayScale(c.zl, c.zs),
+		}
+		opt.DelayScale = res.Cosmology.DelayScale
+	}
+	ir, err := lensmodel.FindImages(pm.lens, bx, by, opt)
+	if err != nil {
+		return nil, err
+	}
+	for _, im := range ir.Images {
+		pi := predictImage{X: im.X, Y: im.Y, Mu: im.Mu, Parity: im.Parity, Kind: im.Kind.String(), Flux: math.Abs(im.Mu) * flux}
+		if pm.cosmo != nil {
+			d := im.Delay
+			pi.Delay = &d
+		}
+		res.Images = append(res.Images, pi)
+		res.TotalMu += math.Abs(im.Mu)
+		res.TotalFlux += pi.Flux
+	}
+	res.Singular = ir.SingularCentres
+	if res.Singular == nil {
+		res.Singular = []lensmodel.Centre{}
+	}
+	res.Central = ir.CentralNote()
+	// The Einstein radius about the first component that has a centre.
+	for _, s := range pm.specs {
+		if s.Kind == "shear" || s.Kind == "sheet" {
+			continue
+		}
+		cx, cy := s.Params["x"], s.Params["y"]
+		r, err := lensmodel.EinsteinRadius(pm.lens, cx, cy)
+		if err != nil {
+			if !errors.Is(err, lensmodel.ErrNoEinsteinRadius) {
+				return nil, err
+			}
+			res.ThetaENote = "the mean convergence about the first component's centre never reaches 1: no Einstein radius"
+			break
+		}
+		res.ThetaE = &r
+		res.ThetaEAt = &[2]float64{cx, cy}
+		if c := pm.cosmo; c != nil {
+			m := c.c.MassInsideThetaE(r, c.zl, c.zs)
+			res.MassInside = &m
+		}
+		break
+	}
+	return res, nil
+}
+
+func writePrediction(w io.Writer, r *predictResult) {
+	fmt.Fprintf(w, "source at (%.4f, %.4f) arcsec, flux %g mJy; %d lens component", r.SourceX, r.SourceY, r.SourceFlux, len(r.Lens))
+	if len(r.Lens) != 1 {
+		fmt.Fprint(w, "s")
+	}
+	fmt.Fprintln(w)
+	if c := r.Cosmology; c != nil {
+		fmt.Fprintf(w, "cosmology: H0 = %g km/s/Mpc, Ωm = %g, ΩΛ = %g (radiation neglected); z_l = %g, z_s = %g\n", c.H0, c.Om, c.Ode, c.ZLens, c.ZSource)
+		fmt.Fprintf(w, "distances: D_l = %.1f, D_s = %.1f, D_ls = %.1f Mpc; Σ_cr = %.4g M_sun/arcsec²\n", c.DL, c.DS, c.DLS, c.SigmaCrit)
+	} else {
+		fmt.Fprintln(w, "no cosmology given: no time delays or masses (add --zl and --zs, or a [cosmology] table)")
+	}
+	switch {
+	case r.ThetaE != nil:
+		fmt.Fprintf(w, "Einstein radius: %.4f arcsec (mean κ = 1 about (%.4g, %.4g))", *r.ThetaE, r.ThetaEAt[0], r.ThetaEAt[1])
+		if r.MassInside != nil {
+			fmt.Fprintf(w, "; projected mass inside: %.4g M_sun", *r.MassInside)
+		}
+		fmt.Fprintln(w)
+	case r.ThetaENote != "":
+		fmt.Fprintln(w, r.ThetaENote)
+	}
+	fmt.Fprintln(w)
+	fmt.Fprintf(w, "%3s %10s %10s %12s %7s %-8s %12s %12s\n", "#", "x (\")", "y (\")", "μ", "parity", "kind", "delay (d)", "flux (mJy)")
+	for i, im := range r.Images {
+		delay := "—"
+		if im.Delay != nil {
+			delay = strconv.FormatFloat(*im.Delay, 'f', 3, 64)
+		}
+		fmt.Fprintf(w, "%3d %10.5f %10.5f %12.5g %+7d %-8s %12s %12.5g\n", i+1, im.X, im.Y, im.Mu, im.Parity, im.Kind, delay, im.Flux)
+	}
+	fmt.Fprintf(w, "%d image", len(r.Images))
+	if len(r.Images) != 1 {
+		fmt.Fprint(w, "s")
+	}
+	fmt.Fprintf(w, ", total |μ| = %.5g, total flux %.5g mJy\n", r.TotalMu, r.TotalFlux)
+	if r.Central != "" {
+		fmt.Fprintf(w, "note: %s\n", r.Central)
+	}
+}

@@ -1,0 +1,204 @@
+package main
+
+import (
+	"bytes"
+	"encoding/json"
+	"image/png"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"deflect/lensmodel"
+)
+
+func runPredict(t *testing.T, args ...string) (stdout, stderr string, code int) {
+	t.Helper()
+	var out, errb bytes.Buffer
+	code = runMain(append([]string{"predict"}, args...), &out, &errb)
+	return out.String(), errb.String(), code
+}
+
+// TestPredictSIS: for a singular isothermal sphere the images of a source
+// at β < θ_E lie at β ± θ_E with μ = 1 ± θ_E/β, the arrival-time
+// difference is (D_Δt/c) 2βθ_E, and the mass inside θ_E is π θ_E² Σ_cr
+// (Schneider, Ehlers & Falco 1992, sect. 8.1.4); fluxes are |μ| × flux.
+func TestPredictSIS(t *testing.T) {
+	dir := t.TempDir()
+	model := filepath.Join(dir, "sis.toml")
+	const text = `# a singular isothermal sphere
+[cosmology]
+z_lens = 0.5
+z_source = 2.0
+H0 = 70.0
+Om = 0.3
+
+[[lens]]
+kind = "sie"
+name = "g1"
+theta_e = {start = 1.5, min = 0.5, max = 3.0}   # free in a fit: predict uses the start
+q = 1.0
+`
+	if err := os.WriteFile(model, []byte(text), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(dir, "out")
+	stdout, stderr, code := runPredict(t, model, "--source", "0.3,0", "--flux", "2", "-o", out)
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	if !strings.Contains(stdout, "2 images") || !strings.Contains(stdout, "infinitely demagnified") {
+		t.Errorf("output lacks the image count or the central-image note:\n%s", stdout)
+	}
+	var res predictResult
+	b, err := os.ReadFile(filepath.Join(out, "predict.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := json.Unmarshal(b, &res); err != nil {
+		t.Fatal(err)
+	}
+	const thetaE, beta = 1.5, 0.3
+	if len(res.Images) != 2 {
+		t.Fatalf("%d images, want 2", len(res.Images))
+	}
+	want := []struct{ x, mu float64 }{{beta + thetaE, 1 + thetaE/beta}, {beta - thetaE, 1 - thetaE/beta}}
+	for k, im := range res.Images {
+		if math.Abs(im.X-want[k].x) > 1e-9 || math.Abs(im.Mu-want[k].mu) > 1e-9 {
+			t.Errorf("image %d: x = %g, μ = %g; want %g, %g", k, im.X, im.Mu, want[k].x, want[k].mu)
+		}
+		if math.Abs(im.Flux-2*math.Abs(im.Mu)) > 1e-12 {
+			t.Errorf("image %d: flux %g, want 2|μ|", k, im.Flux)
+		}
+	}
+	c := lensmodel.FlatLambdaCDM(70, 0.3)
+	if d := *res.Images[1].Delay; math.Abs(d-c.DelayScale(0.5, 2)*2*beta*thetaE) > 1e-9*d {
+		t.Errorf("delay %g days, want %g", d, c.DelayScale(0.5, 2)*2*beta*thetaE)
+	}
+	if res.ThetaE == nil || math.Abs(*res.ThetaE-thetaE) > 1e-9 {
+		t.Errorf("Einstein radius %v, want %g", res.ThetaE, thetaE)
+	}
+	if m := math.Pi * thetaE * thetaE * c.SigmaCrit(0.5, 2); res.MassInside == nil || math.Abs(*res.MassInside-m) > 1e-9*m {
+		t.Errorf("mass inside θ_E %v, want %g", res.MassInside, m)
+	}
+	f, err := os.Open(filepath.Join(out, "predict.png"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	img, err := png.Decode(f)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if b := img.Bounds(); b.Dx() != 720 || b.Dy() != 720 {
+		t.Errorf("PNG is %v, want 720×720", b)
+	}
+	// A second run into the same directory is refused without --force.
+	if _, stderr, code := runPredict(t, model, "--source", "0.3,0", "-o", out); code != 1 || !strings.Contains(stderr, "not empty") {
+		t.Errorf("rerun into a non-empty directory: exit %d, %s", code, stderr)
+	}
+	if _, stderr, code := runPredict(t, model, "--source", "0.3,0", "-o", out, "--force"); code != 0 {
+		t.Errorf("rerun with --force: exit %d, %s", code, stderr)
+	}
+}
+
+// TestPredictLensFlags: the quad of a cored SIE has five images, the
+// same as lensmodel.FindImages returns, and shows them without delays when
+// no redshifts are given.
+func TestPredictLensFlags(t *testing.T) {
+	stdout, stderr, code := runPredict(t, "--lens", "sie:x=0,y=0,theta_e=1,q=0.7,pa=10,core=0.05", "--source", "0.03,-0.02")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	res, err := lensmodel.FindImages(lensmodel.Lens{lensmodel.SIE{ThetaE: 1, Q: 0.7, PA: 10, Core: 0.05}}, 0.03, -0.02, lensmodel.ImageOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(res.Images) != 5 || !strings.Contains(stdout, "5 images") || !strings.Contains(stdout, "maximum") {
+		t.Errorf("want 5 images with a central maximum:\n%s", stdout)
+	}
+	if !strings.Contains(stdout, "no cosmology") || strings.Contains(stdout, "demagnified") {
+		t.Errorf("want the no-cosmology line and no singular-centre note:\n%s", stdout)
+	}
+}
+
+// TestPredictNFWMass: an NFW halo given by M200 and c gets the κ_s and r_s
+// of Cosmology.NFWFromM200.
+func TestPredictNFWMass(t *testing.T) {
+	pm := &predictModel{cosmo: &predictCosmo{c: lensmodel.FlatLambdaCDM(70, 0.3), zl: 0.3, zs: 1.5}}
+	for _, s := range []string{"nfw:m200=1e14,c=5", "sie:theta_e=1"} {
+		spec, err := predictParseLensFlag(s)
+		if err != nil {
+			t.Fatal(err)
+		}
+		pm.specs = append(pm.specs, spec)
+	}
+	if err := pm.build(); err != nil {
+		t.Fatal(err)
+	}
+	ks, rs := pm.cosmo.c.NFWFromM200(1e14, 5, 0.3, 1.5)
+	n, ok := pm.lens[0].(lensmodel.NFW)
+	if !ok || n.KappaS != ks || n.Rs != rs || n.Q != 1 {
+		t.Errorf("component %+v, want NFW with κ_s = %g, r_s = %g", pm.lens[0], ks, rs)
+	}
+}
+
+func TestPredictErrors(t *testing.T) {
+	dir := t.TempDir()
+	write := func(name, text string) string {
+		p := filepath.Join(dir, name)
+		if err := os.WriteFile(p, []byte(text), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		return p
+	}
+	good := "[cosmology]\nz_lens = 0.5\nz_source = 2\nH0 = 70\nOm = 0.3\n"
+	tests := []struct {
+		name string
+		args []string
+		code int
+		want string
+	}{
+		{"no source", []string{"--lens", "sie:theta_e=1"}, 2, "--source"},
+		{"bad source", []string{"--lens", "sie:theta_e=1", "--source", "1;2"}, 2, "X,Y"},
+		{"no lens", []string{"--source", "0,0"}, 2, "no MODEL"},
+		{"unknown kind", []string{"--lens", "sis:theta_e=1", "--source", "0,0"}, 2, `did you mean "sie"`},
+		{"unknown flag key", []string{"--lens", "sie:thetae=1", "--source", "0,0"}, 2, `did you mean "theta_e"`},
+		{"missing parameter", []string{"--lens", "sie:q=0.5", "--source", "0,0"}, 2, "missing theta_e"},
+		{"bad q", []string{"--lens", "sie:theta_e=1,q=1.5", "--source", "0,0"}, 2, "axis ratio"},
+		{"unknown key in file", []string{write("a.toml", good+"\n[[lens]]\nkind = \"sie\"\nthetae = 1.0\n"), "--source", "0,0"}, 1, `a.toml:9: lens 1 (sie): unknown key "thetae"; did you mean "theta_e"?`},
+		{"unknown section", []string{write("b.toml", good+"[lense]\nkind = 1\n"), "--source", "0,0"}, 1, `b.toml:6: unknown section or key "lense"`},
+		{"cosmology key", []string{write("c.toml", "[cosmology]\nz_lens = 0.5\nzsource = 2\n"), "--source", "0,0"}, 1, `c.toml:3: cosmology: unknown key "zsource"`},
+		{"free without start", []string{write("d.toml", good+"[[lens]]\nkind = \"sie\"\ntheta_e = {min = 1, max = 2}\n"), "--source", "0,0"}, 1, "d.toml:8: lens 1 (sie): theta_e is a free parameter without a start value"},
+		{"toml syntax", []string{write("e.toml", "[cosmology\n"), "--source", "0,0"}, 1, "e.toml:1"},
+		{"redshift order", []string{write("f.toml", "[cosmology]\nz_lens = 2\nz_source = 1\nH0 = 70\nOm = 0.3\n[[lens]]\nkind = \"point\"\ntheta_e = 1\n"), "--source", "0,0"}, 1, "z_lens < z_source"},
+		{"nfw needs cosmology", []string{"--lens", "nfw:m200=1e13,c=4", "--source", "0,0"}, 2, "cosmology"},
+		{"file and flags", []string{write("g.toml", good), "--lens", "sie:theta_e=1", "--source", "0,0"}, 2, "not both"},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			_, stderr, code := runPredict(t, tc.args...)
+			if code != tc.code || !strings.Contains(stderr, tc.want) {
+				t.Errorf("exit %d, stderr %q; want exit %d and %q", code, stderr, tc.code, tc.want)
+			}
+		})
+	}
+}
+
+// FuzzPredictModel: the model parser never panics, and every model it
+// accepts builds a lens that passes Validate.
+func FuzzPredictModel(f *testing.F) {
+	f.Add([]byte("[cosmology]\nz_lens = 0.5\nz_source = 2\nH0 = 70\nOm = 0.3\n[[lens]]\nkind = \"sie\"\ntheta_e = 1.2\nq = 0.8\n"))
+	f.Add([]byte("[[lens]]\nkind = \"shear\"\ngamma = 0.1\n"))
+	f.Add([]byte("[[lens]]\nkind = \"nfw\"\nkappa_s = 0.2\nr_s = 5\n"))
+	f.Fuzz(func(t *testing.T, data []byte) {
+		pm, err := parsePredictModel("fuzz.toml", data)
+		if err != nil {
+			return
+		}
+		if err := pm.lens.Validate(); err != nil {
+			t.Fatalf("accepted model fails Validate: %v", err)
+		}
+	})
+}
