@@ -134,13 +134,18 @@ func (t *FFT2) ensure() {
 	}
 }
 
-// fft1 is an in-place 1-D complex FFT of length n.
+// fft1 is an in-place 1-D complex FFT of length n: for powers of two an
+// iterative decimation-in-time transform (bit reversal, then the radix-2
+// stages taken two at a time, so that each pass over the data does two
+// stages); otherwise gonum's CmplxFFT.
 type fft1 struct {
 	n   int
+	lg  int
 	rev []int32
-	// tw[h-1+k] = exp(−2πi k/(2h)) for the stage of half-length h, k < h.
-	tw []complex128
-	g  *fourier.CmplxFFT
+	// tw[h-1+k] = exp(−2πi k/(2h)) for the stage of half-length h, k < h;
+	// twInv holds the conjugates.
+	tw, twInv []complex128
+	g         *fourier.CmplxFFT
 }
 
 func newFFT1(n int) *fft1 {
@@ -150,6 +155,7 @@ func newFFT1(n int) *fft1 {
 		return p
 	}
 	lg := bits.TrailingZeros(uint(n))
+	p.lg = lg
 	p.rev = make([]int32, n)
 	for i := range n {
 		if lg > 0 {
@@ -157,10 +163,12 @@ func newFFT1(n int) *fft1 {
 		}
 	}
 	p.tw = make([]complex128, max(n-1, 0))
+	p.twInv = make([]complex128, max(n-1, 0))
 	for h := 1; h < n; h *= 2 {
 		for k := range h {
 			s, c := math.Sincos(-math.Pi * float64(k) / float64(h))
 			p.tw[h-1+k] = complex(c, s)
+			p.twInv[h-1+k] = complex(c, -s)
 		}
 	}
 	return p
@@ -183,23 +191,57 @@ func (p *fft1) do(x []complex128, sign int) {
 			x[i], x[r] = x[r], x[i]
 		}
 	}
-	conj := sign > 0
-	for h := 1; h < n; h *= 2 {
-		tw := p.tw[h-1 : 2*h-1]
-		for s := 0; s < n; s += 2 * h {
-			lo := x[s : s+h]
-			hi := x[s+h : s+2*h]
-			for k, wv := range tw {
-				wr, wi := real(wv), imag(wv)
-				if conj {
-					wi = -wi
-				}
-				b := hi[k]
-				br := real(b)*wr - imag(b)*wi
-				bi := real(b)*wi + imag(b)*wr
-				a := lo[k]
-				lo[k] = complex(real(a)+br, imag(a)+bi)
-				hi[k] = complex(real(a)-br, imag(a)-bi)
+	tw := p.tw
+	if sign > 0 {
+		tw = p.twInv
+	}
+	h := 1
+	if p.lg%2 == 1 {
+		for s := 0; s+1 < n; s += 2 {
+			a, b := x[s], x[s+1]
+			x[s], x[s+1] = a+b, a-b
+		}
+		h = 2
+	}
+	if h == 1 && n >= 4 {
+		// Stages h = 1 and 2 together: all twiddles are 1 except
+		// exp(∓2πi/4) = ∓i.
+		neg := sign < 0
+		for s := 0; s+3 < n; s += 4 {
+			q := (*[4]complex128)(x[s : s+4])
+			a, b, c, d := q[0], q[1], q[2], q[3]
+			a1, b1, c1, d1 := a+b, a-b, c+d, c-d
+			// d1 times ∓i.
+			if neg {
+				d1 = complex(imag(d1), -real(d1))
+			} else {
+				d1 = complex(-imag(d1), real(d1))
+			}
+			q[0], q[2], q[1], q[3] = a1+c1, a1-c1, b1+d1, b1-d1
+		}
+		h = 4
+	}
+	// Stages h and 2h together: within each group of 4h values the first
+	// stage pairs (k, k+h) and (k+2h, k+3h) with twiddle W_2h^k, the second
+	// pairs (k, k+2h) with W_4h^k and (k+h, k+3h) with W_4h^(k+h).
+	for ; h < n; h *= 4 {
+		w1s := tw[h-1 : 2*h-1]
+		w2s := tw[2*h-1 : 4*h-1]
+		for s := 0; s < n; s += 4 * h {
+			q0 := x[s : s+h]
+			q1 := x[s+h : s+2*h]
+			q2 := x[s+2*h : s+3*h]
+			q3 := x[s+3*h : s+4*h]
+			for k := range q0 {
+				w1 := w1s[k]
+				b := q1[k] * w1
+				d := q3[k] * w1
+				a, c := q0[k], q2[k]
+				a1, b1 := a+b, a-b
+				c1 := (c + d) * w2s[k]
+				d1 := (c - d) * w2s[k+h]
+				q0[k], q2[k] = a1+c1, a1-c1
+				q1[k], q3[k] = b1+d1, b1-d1
 			}
 		}
 	}
