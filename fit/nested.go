@@ -313,7 +313,7 @@ func (ns *nested) init() error {
 	for i := range n {
 		u := make([]float64, dim)
 		for d := range u {
-			u[d] = ns.rnd.Float64()
+			u[d] = openUnit(ns.rnd)
 		}
 		ns.st.U[i] = u
 		ns.st.Theta[i] = make([]float64, dim)
@@ -480,7 +480,8 @@ func (ns *nested) slice(rnd *rand.Rand, u0, theta0 []float64, ll0, lstar float64
 	inside := func(t float64) (bool, error) {
 		for d := range xt {
 			xt[d] = x[d] + t*dir[d]
-			if !(xt[d] >= 0 && xt[d] <= 1) {
+			// Open interval: an unbounded prior maps 0 and 1 to ±Inf.
+			if !(xt[d] > 0 && xt[d] < 1) {
 				return false, nil
 			}
 		}

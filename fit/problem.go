@@ -95,7 +95,7 @@ func (p Priors) Sample(dst []float64, rnd *rand.Rand) {
 		panic("fit: Priors.Sample length mismatch")
 	}
 	for i, pp := range p {
-		dst[i] = pp.Quantile(rnd.Float64())
+		dst[i] = pp.Quantile(openUnit(rnd))
 	}
 }
 
@@ -300,6 +300,16 @@ func (n Normal) LogProb(x float64) float64 {
 }
 
 func sq(x float64) float64 { return x * x }
+
+// openUnit returns a uniform draw from the open interval (0, 1), so that
+// quantiles of unbounded priors stay finite.
+func openUnit(rnd *rand.Rand) float64 {
+	for {
+		if u := rnd.Float64(); u > 0 {
+			return u
+		}
+	}
+}
 
 // validate checks p and returns a descriptive error for bad input.
 func (p Problem) validate() error {
