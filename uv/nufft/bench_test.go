@@ -99,11 +99,14 @@ func BenchmarkDFT(b *testing.B) {
 		dst := make([]complex128, tc.m)
 		grid := make([]complex128, tc.n*tc.n)
 		terms := float64(tc.m) * float64(tc.n*tc.n)
+		var clk cpuClock
 		report := func(b *testing.B) {
 			b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/terms, "ns/term")
+			b.ReportMetric(float64(cpuNow()-clk.start)/float64(b.N)/terms, "cpu-ns/term")
 		}
 		b.Run(fmt.Sprintf("type2/M=%d/n=%d", tc.m, tc.n), func(b *testing.B) {
 			b.ReportAllocs()
+			clk = startCPU()
 			for b.Loop() {
 				DFT2(dst, f, tc.n, x, y, -1)
 			}
@@ -111,6 +114,7 @@ func BenchmarkDFT(b *testing.B) {
 		})
 		b.Run(fmt.Sprintf("type2real/M=%d/n=%d", tc.m, tc.n), func(b *testing.B) {
 			b.ReportAllocs()
+			clk = startCPU()
 			for b.Loop() {
 				DFT2Real(dst, fr, tc.n, x, y, -1)
 			}
@@ -118,6 +122,7 @@ func BenchmarkDFT(b *testing.B) {
 		})
 		b.Run(fmt.Sprintf("type1/M=%d/n=%d", tc.m, tc.n), func(b *testing.B) {
 			b.ReportAllocs()
+			clk = startCPU()
 			for b.Loop() {
 				DFT1(grid, c, x, y, tc.n, 1)
 			}

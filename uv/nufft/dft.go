@@ -29,12 +29,20 @@ func DFT2(dst, f []complex128, n int, x, y []float64, sign int) []complex128 {
 			var sr, si float64
 			for j := range n {
 				row := f[j*n : j*n+n]
-				var rr, ri float64
-				for i, e := range ex[:len(row)] {
-					v := row[i]
+				ex := ex[:len(row)]
+				// Two independent pairs of sums (n is even) halve the
+				// dependency chain of the additions.
+				var rr, ri, rr1, ri1 float64
+				for i := 0; i+1 < len(row); i += 2 {
+					v, e := row[i], ex[i]
 					rr += real(v)*real(e) - imag(v)*imag(e)
 					ri += real(v)*imag(e) + imag(v)*real(e)
+					v, e = row[i+1], ex[i+1]
+					rr1 += real(v)*real(e) - imag(v)*imag(e)
+					ri1 += real(v)*imag(e) + imag(v)*real(e)
 				}
+				rr += rr1
+				ri += ri1
 				e := ey[j]
 				sr += rr*real(e) - ri*imag(e)
 				si += rr*imag(e) + ri*real(e)
@@ -59,11 +67,17 @@ func DFT2Real(dst []complex128, f []float64, n int, x, y []float64, sign int) []
 			var sr, si float64
 			for j := range n {
 				row := f[j*n : j*n+n]
-				var rr, ri float64
-				for i, e := range ex[:len(row)] {
-					rr += row[i] * real(e)
-					ri += row[i] * imag(e)
+				ex := ex[:len(row)]
+				var rr, ri, rr1, ri1 float64
+				for i := 0; i+1 < len(row); i += 2 {
+					e0, e1 := ex[i], ex[i+1]
+					rr += row[i] * real(e0)
+					ri += row[i] * imag(e0)
+					rr1 += row[i+1] * real(e1)
+					ri1 += row[i+1] * imag(e1)
 				}
+				rr += rr1
+				ri += ri1
 				e := ey[j]
 				sr += rr*real(e) - ri*imag(e)
 				si += rr*imag(e) + ri*real(e)
