@@ -1,0 +1,300 @@
+package source
+
+import (
+	"fmt"
+	"math"
+	"runtime"
+	"sync"
+	"sync/atomic"
+
+	"deflect/lensmodel"
+)
+
+// Pixels is a square sky grid of Size()×Size() pixels, PixelSize() arcsec on
+// a side, whose pixel at flat index k is centred at Centre(k) arcsec
+// (x east, y north). uv.Grid implements it; images are stored with k = j·N + i
+// as in uv.Grid.
+type Pixels interface {
+	Size() int
+	PixelSize() float64
+	Centre(k int) (x, y float64)
+}
+
+// RenderOptions are the settings of Render. The zero value is the
+// documented default for every field.
+type RenderOptions struct {
+	// Freq is the observing frequency in Hz at which component fluxes are
+	// evaluated with their spectral indices; 0 means the source's RefFreq.
+	Freq float64
+	// Tol is the accepted error of each pixel's flux relative to the larger
+	// of that flux and the intrinsic source flux divided by the number of
+	// pixels; 0 means 1e-3.
+	Tol float64
+	// MaxDepth is the largest number of halvings of a pixel side; 0 means 6
+	// (sub-pixels 1/64 of a pixel on a side).
+	MaxDepth int
+}
+
+// RenderStats reports the work Render did.
+type RenderStats struct {
+	Rays     int // number of ray-traced positions
+	MaxDepth int // deepest subdivision reached
+}
+
+// Render writes into dst the sky image in Jy per pixel of the extended
+// components of src (point components are left out: see LensedPoint) seen
+// through lens, on the grid pix, and returns dst; dst is allocated when nil
+// and must otherwise hold Size()² values. A nil lens means no lensing.
+//
+// Each pixel's flux is the integral of the surface brightness over the
+// pixel, computed by adaptive midpoint quadrature of I(β(θ)) with
+// β = θ − α(θ): a cell (first the whole pixel) is compared with the mean of
+// its four quarters; the cell is split into those quarters, recursively up to
+// MaxDepth, while the two differ by more than the cell's share of the
+// tolerance, or while the cell's ray-traced footprint in the source plane is
+// wider than max(Scale, d/2) of a component at distance d from it (so
+// compact cores are found however small, and regions next to critical
+// curves, where footprints shrink, are resolved where brightness changes).
+// Rows are shared among runtime.GOMAXPROCS(0) goroutines; the result does not
+// depend on their number.
+func Render(dst []float64, pix Pixels, lens lensmodel.Mass, src Source, opt RenderOptions) ([]float64, RenderStats) {
+	n := pix.Size()
+	if n <= 0 {
+		panic(fmt.Sprintf("source: grid size %d is not positive", n))
+	}
+	if dst == nil {
+		dst = make([]float64, n*n)
+	}
+	if len(dst) != n*n {
+		panic(fmt.Sprintf("source: Render destination has %d values, grid has %d", len(dst), n*n))
+	}
+	r := newRenderer(pix, lens, src, opt)
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	var mu sync.Mutex
+	var stats RenderStats
+	for range min(runtime.GOMAXPROCS(0), n) {
+		wg.Go(func() {
+			w := r.newWorker()
+			for {
+				j := int(next.Add(1)) - 1
+				if j >= n {
+					break
+				}
+				w.row(dst[j*n:(j+1)*n], j)
+			}
+			mu.Lock()
+			stats.Rays += w.rays
+			stats.MaxDepth = max(stats.MaxDepth, w.depth)
+			mu.Unlock()
+		})
+	}
+	wg.Wait()
+	return dst, stats
+}
+
+// brightFunc is a component's surface brightness in Jy/arcsec² at the
+// rendering frequency.
+type brightFunc func(x, y float64) float64
+
+type compInfo struct {
+	x, y, scale float64
+}
+
+type renderer struct {
+	pix      Pixels
+	n        int
+	trace    func(bx, by, x, y []float64)
+	comps    []brightFunc
+	info     []compInfo
+	tol      float64
+	maxDepth int
+	floor    float64 // absolute tolerance floor per pixel, Jy
+	area     float64 // pixel area, arcsec²
+}
+
+func newRenderer(pix Pixels, lens lensmodel.Mass, src Source, opt RenderOptions) *renderer {
+	r := &renderer{pix: pix, n: pix.Size(), tol: opt.Tol, maxDepth: opt.MaxDepth}
+	if r.tol == 0 {
+		r.tol = 1e-3
+	}
+	if !(r.tol > 0) {
+		panic(fmt.Sprintf("source: render tolerance %v is not positive", opt.Tol))
+	}
+	if r.maxDepth == 0 {
+		r.maxDepth = 6
+	}
+	if r.maxDepth < 0 || r.maxDepth > 20 {
+		panic(fmt.Sprintf("source: render depth %d outside [0, 20]", opt.MaxDepth))
+	}
+	p := pix.PixelSize()
+	if !(p > 0) {
+		panic(fmt.Sprintf("source: pixel size %v is not positive", p))
+	}
+	r.area = p * p
+	var flux float64
+	for _, c := range src.Components {
+		if _, ok := c.(Point); ok {
+			continue
+		}
+		f := src.SpectralFactor(c.SpectralIndex(), opt.Freq)
+		flux += math.Abs(c.TotalFlux() * f)
+		cx, cy := c.Centre()
+		r.info = append(r.info, compInfo{cx, cy, c.Scale()})
+		r.comps = append(r.comps, prepare(c, f))
+	}
+	r.floor = r.tol * flux / float64(r.n*r.n)
+	if r.floor == 0 {
+		r.floor = math.SmallestNonzeroFloat64
+	}
+	switch l := lens.(type) {
+	case nil:
+		r.trace = func(bx, by, x, y []float64) { copy(bx, x); copy(by, y) }
+	case lensmodel.Lens:
+		r.trace = l.Trace
+	default:
+		r.trace = lensmodel.Lens{lens}.Trace
+	}
+	return r
+}
+
+// prepare returns the brightness function of c scaled by f, with the
+// profile's constants computed once.
+func prepare(c Component, f float64) brightFunc {
+	switch c := c.(type) {
+	case Sersic:
+		p := c.Prepare()
+		return func(x, y float64) float64 { return f * p.Brightness(x, y) }
+	case Gaussian:
+		c.check()
+		sig := c.FWHM / fwhmPerSigma
+		s, cs := math.Sincos(c.PA * math.Pi / 180)
+		norm := f * c.Flux / (2 * math.Pi * sig * sig * c.Q)
+		k := -1 / (2 * sig * sig)
+		return func(x, y float64) float64 {
+			dx, dy := x-c.X, y-c.Y
+			xp := dx*s + dy*cs
+			yp := (-dx*cs + dy*s) / c.Q
+			return norm * math.Exp(k*(xp*xp+yp*yp))
+		}
+	default:
+		return func(x, y float64) float64 { return f * c.Brightness(x, y) }
+	}
+}
+
+// cell is a square part of a pixel: centre (x, y), half side h, brightness
+// v at its centre, which traces to (bx, by).
+type cell struct {
+	pix       int
+	x, y, h   float64
+	v, bx, by float64
+}
+
+type worker struct {
+	r            *renderer
+	cells, next  []cell
+	x, y, bx, by []float64
+	v            []float64
+	tolPix       []float64
+	rays, depth  int
+}
+
+func (r *renderer) newWorker() *worker {
+	return &worker{r: r, tolPix: make([]float64, r.n)}
+}
+
+func (w *worker) bright(x, y float64) float64 {
+	var b float64
+	for _, f := range w.r.comps {
+		b += f(x, y)
+	}
+	return b
+}
+
+// traceAll ray-traces the first m positions of w.x, w.y into w.bx, w.by and
+// evaluates the brightness there into w.v.
+func (w *worker) traceAll(m int) {
+	w.r.trace(w.bx[:m], w.by[:m], w.x[:m], w.y[:m])
+	for k := range m {
+		w.v[k] = w.bright(w.bx[k], w.by[k])
+	}
+	w.rays += m
+}
+
+func (w *worker) grow(m int) {
+	if cap(w.x) < m {
+		w.x = make([]float64, m)
+		w.y = make([]float64, m)
+		w.bx = make([]float64, m)
+		w.by = make([]float64, m)
+		w.v = make([]float64, m)
+	}
+}
+
+// row renders pixel row j into out.
+func (w *worker) row(out []float64, j int) {
+	r := w.r
+	n := r.n
+	h := r.pix.PixelSize() / 2
+	w.grow(4 * n)
+	for i := range n {
+		w.x[i], w.y[i] = r.pix.Centre(j*n + i)
+	}
+	w.traceAll(n)
+	w.cells = w.cells[:0]
+	for i := range n {
+		w.cells = append(w.cells, cell{pix: i, x: w.x[i], y: w.y[i], h: h, v: w.v[i], bx: w.bx[i], by: w.by[i]})
+		out[i] = 0
+	}
+	offs := [4][2]float64{{-0.5, -0.5}, {0.5, -0.5}, {-0.5, 0.5}, {0.5, 0.5}}
+	for depth := 0; len(w.cells) > 0; depth++ {
+		m := 4 * len(w.cells)
+		w.grow(m)
+		for c, ce := range w.cells {
+			for q, o := range offs {
+				w.x[4*c+q] = ce.x + o[0]*ce.h
+				w.y[4*c+q] = ce.y + o[1]*ce.h
+			}
+		}
+		w.traceAll(m)
+		w.depth = max(w.depth, depth+1)
+		w.next = w.next[:0]
+		for c, ce := range w.cells {
+			v := w.v[4*c : 4*c+4]
+			fine := (v[0] + v[1] + v[2] + v[3]) / 4
+			a := 4 * ce.h * ce.h // cell area, arcsec²
+			if depth == 0 {
+				w.tolPix[ce.pix] = r.tol * max(math.Abs(fine)*a, r.floor)
+			}
+			split := depth < r.maxDepth &&
+				(math.Abs(fine-ce.v)*a > w.tolPix[ce.pix]*a/r.area || w.unresolved(4*c, ce))
+			if !split {
+				out[ce.pix] += fine * a
+				continue
+			}
+			for q := range 4 {
+				k := 4*c + q
+				w.next = append(w.next, cell{pix: ce.pix, x: w.x[k], y: w.y[k], h: ce.h / 2, v: w.v[k], bx: w.bx[k], by: w.by[k]})
+			}
+		}
+		w.cells, w.next = w.next, w.cells
+	}
+}
+
+// unresolved reports whether the cell's source-plane footprint, estimated
+// from its quarters' traced positions at w.bx[k:k+4], is wider than
+// max(Scale, d/2) for some component at distance d.
+func (w *worker) unresolved(k int, ce cell) bool {
+	var ext float64
+	for q := range 4 {
+		ext = max(ext, math.Hypot(w.bx[k+q]-ce.bx, w.by[k+q]-ce.by))
+	}
+	ext *= 2
+	for _, c := range w.r.info {
+		d := math.Hypot(ce.bx-c.x, ce.by-c.y)
+		if ext > max(c.scale, d/2) {
+			return true
+		}
+	}
+	return false
+}
