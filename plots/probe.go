@@ -111,7 +111,7 @@ func ProbeFigure(pr Probe) (*Figure, error) {
 	}
 	ip.Add(beamMark{pr.Beam})
 	freezeRange(ip, v)
-	f.Add(0, 0, 0.36, 1, imagePanel{p: ip, bar: &colorBar{cm: Viridis, lo: lo, hi: hi, label: "mJy/beam"}})
+	f.Add(0, 0, 0.35, 1, imagePanel{p: ip, bar: &colorBar{cm: Viridis, lo: lo, hi: hi, label: "mJy/beam"}})
 
 	// Fluxes.
 	fp := newPlot("", "flux density (mJy)")
@@ -146,7 +146,7 @@ func ProbeFigure(pr Probe) (*Figure, error) {
 		band.Color = premultiplied(c)
 		band.LineStyle.Width = 0
 		fp.Add(band)
-		fp.Legend.Add(fmt.Sprintf("splits' mean %s ± %s", fmtG(m.Value), fmtG(m.Err)), band)
+		fp.Legend.Add("splits' mean "+fmtPM(m.Value, m.Err)+" mJy", band)
 	}
 	if err := addErrPts(fp, pts, qualitative[0], ""); err != nil {
 		return nil, err
@@ -180,28 +180,28 @@ func ProbeFigure(pr Probe) (*Figure, error) {
 	np.Add(h)
 	np.Add(vline(pr.Observed, draw.LineStyle{Color: qualitative[1], Width: lineWidth}))
 	p, exceed := pr.FalseAlarm, 0
-	var fap string
+	lines := []string{fmt.Sprintf("observed %s mJy", fmtG(pr.Observed))}
 	if p > 0 {
-		fap = fmt.Sprintf("false-alarm p = %s", fmtP(p))
+		lines = append(lines, fmt.Sprintf("false-alarm p = %s", fmtP(p)))
 	} else {
 		p, exceed = EmpiricalFalseAlarm(pr.Null, pr.Observed)
+		rel := "="
 		if exceed == 0 {
-			fap = fmt.Sprintf("false-alarm p < %s", fmtP(p))
-		} else {
-			fap = fmt.Sprintf("false-alarm p = %s", fmtP(p))
+			rel = "<"
 		}
-		fap += fmt.Sprintf(" (%d of %d ≥ observed)", exceed, len(pr.Null))
+		lines = append(lines, fmt.Sprintf("false-alarm p %s %s", rel, fmtP(p)),
+			fmt.Sprintf("(%d of %d null draws ≥ observed)", exceed, len(pr.Null)))
 	}
 	xlo, xhi := math.Min(h.Bins[0].Min, pr.Observed), math.Max(h.Bins[len(h.Bins)-1].Max, pr.Observed)
 	// Write on the side away from the observed line.
 	right := pr.Observed < (xlo+xhi)/2
-	np.Add(textPanel{lines: []string{fmt.Sprintf("observed %s mJy", fmtG(pr.Observed)), fap}, right: right, col: black})
+	np.Add(textPanel{lines: lines, right: right, col: black})
 	span := xhi - xlo
 	np.X.Min, np.X.Max = xlo-0.05*span, xhi+0.05*span
 	np.Y.Min = 0
 	np.Y.Max *= 1.45 // room for the text
 	np.Title.Text = "null distribution"
-	f.Add(0.36, 0, 0.68, 1, plotGrid{plots: [][]*plot.Plot{{fp}}})
+	f.Add(0.37, 0, 0.68, 1, plotGrid{plots: [][]*plot.Plot{{fp}}})
 	f.Add(0.68, 0, 1, 1, plotGrid{plots: [][]*plot.Plot{{np}}})
 	return f, nil
 }
@@ -213,4 +213,14 @@ func fmtP(p float64) string {
 		return fmt.Sprintf("%.3g", p)
 	}
 	return fmt.Sprintf("%.2g", p)
+}
+
+// fmtPM writes "v ± e" with e to two significant figures and v to the
+// same decimal place.
+func fmtPM(v, e float64) string {
+	if !(e > 0) || math.IsInf(e, 0) {
+		return fmtG(v) + " ± " + fmtG(e)
+	}
+	dec := max(0, 1-int(math.Floor(math.Log10(e))))
+	return minusSign(fmt.Sprintf("%.*f", dec, v)) + " ± " + fmt.Sprintf("%.*f", dec, e)
 }
