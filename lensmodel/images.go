@@ -3,6 +3,7 @@ package lensmodel
 import (
 	"fmt"
 	"math"
+	"reflect"
 	"sort"
 	"strings"
 )
@@ -16,8 +17,10 @@ type Centre struct {
 // their components. CriticalCurves and FindImages refine their grids to the
 // finest level there, start extra Newton iterations there (central images
 // hide within a core radius of a centre), and test each centre for a
-// singularity that removes the central image. Lens, SIE and PointMass are
-// recognised without it; other components should implement it.
+// singularity that removes the central image. Without it, a Lens is
+// searched component by component, and a component struct with float64
+// fields X and Y (every component of this package except Shear and Sheet)
+// is taken to be centred there.
 type Centred interface {
 	Centres() []Centre
 }
@@ -33,10 +36,22 @@ func centresOf(m Mass) []Centre {
 			cs = append(cs, centresOf(c)...)
 		}
 		return cs
-	case SIE:
-		return []Centre{{v.X, v.Y}}
-	case PointMass:
-		return []Centre{{v.X, v.Y}}
+	case Shear, Sheet:
+		// Uniform fields: their X, Y are a reference point, not a centre.
+		return nil
+	}
+	// The components of this package (SIE, PointMass, PowerLaw, NFW, …)
+	// are structs with float64 fields X and Y for their centre.
+	rv := reflect.ValueOf(m)
+	if rv.Kind() == reflect.Pointer {
+		rv = rv.Elem()
+	}
+	if rv.Kind() != reflect.Struct {
+		return nil
+	}
+	fx, fy := rv.FieldByName("X"), rv.FieldByName("Y")
+	if fx.IsValid() && fy.IsValid() && fx.Kind() == reflect.Float64 && fy.Kind() == reflect.Float64 {
+		return []Centre{{fx.Float(), fy.Float()}}
 	}
 	return nil
 }
