@@ -218,6 +218,26 @@ func (l Lens) evaluators() []evaluator {
 
 func (l Lens) prepare() evaluator { return lensEval(l.evaluators()) }
 
+// Prepare returns a Mass equal to l with every component's constants (sines
+// and cosines of position angles, axis-ratio factors, halo tables) computed
+// once, so that evaluating it point by point, as image finders and contour
+// tracers do, costs what the batch methods cost per point. It reflects l at
+// the time of the call: after changing a component, prepare again. The
+// result is safe for concurrent use.
+func (l Lens) Prepare() Mass { return preparedLens{lensEval(l.evaluators())} }
+
+// preparedLens is the Mass returned by Lens.Prepare.
+type preparedLens struct{ e lensEval }
+
+func (p preparedLens) Deflect(x, y float64) (ax, ay float64) { return p.e.deflect(x, y) }
+func (p preparedLens) Kappa(x, y float64) float64            { return p.e.kappa(x, y) }
+func (p preparedLens) Potential(x, y float64) float64        { return p.e.potential(x, y) }
+func (p preparedLens) prepare() evaluator                    { return p.e }
+
+func (p preparedLens) Hessian(x, y float64) (hxx, hxy, hyy float64) {
+	return p.e.hessian(x, y)
+}
+
 // lensEval is the evaluator of a Lens nested in a Lens.
 type lensEval []evaluator
 

@@ -126,6 +126,33 @@ func TestLensBatch(t *testing.T) {
 	}
 }
 
+func TestLensPrepare(t *testing.T) {
+	// The prepared lens gives the same values bit for bit, point by point
+	// and in a batch.
+	l := testLens()
+	p := l.Prepare()
+	for _, pt := range [][2]float64{{0.7, -0.2}, {1.5, 1.2}, {-1.3, 0.1}, {0.3, 0.1}} {
+		x, y := pt[0], pt[1]
+		ax, ay := l.Deflect(x, y)
+		px, py := p.Deflect(x, y)
+		a, b, c := l.Hessian(x, y)
+		pa, pb, pc := p.Hessian(x, y)
+		if ax != px || ay != py || a != pa || b != pb || c != pc ||
+			l.Kappa(x, y) != p.Kappa(x, y) || l.Potential(x, y) != p.Potential(x, y) {
+			t.Errorf("prepared lens differs at (%g, %g)", x, y)
+		}
+	}
+	x, y := []float64{0.7, 1.5}, []float64{-0.2, 1.2}
+	bx, by := make([]float64, 2), make([]float64, 2)
+	Lens{p}.Trace(bx, by, x, y)
+	for i := range x {
+		wx, wy := l.TraceRay(x[i], y[i])
+		if bx[i] != wx || by[i] != wy {
+			t.Errorf("prepared batch trace differs at point %d", i)
+		}
+	}
+}
+
 func TestLensBatchAllocs(t *testing.T) {
 	l := testLens()[:5]
 	n := 10 * chunkSize
