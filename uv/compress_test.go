@@ -301,3 +301,47 @@ func TestFrequencyGroups(t *testing.T) {
 		}
 	}
 }
+
+// Chi2 and Chi2Grad may be called from many goroutines at once (the
+// samplers evaluate walkers in parallel); results equal the serial ones.
+func TestCompressedConcurrent(t *testing.T) {
+	rnd := rand.New(rand.NewPCG(1, 8))
+	g := Grid{N: 16, Pixel: 0.3}
+	d := simDataset(rnd, 200, g, 2e12)
+	cs, err := Compress(d, g, CompressOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	c := cs[0]
+	imgs := [][]float64{randomImage(rnd, g), supportImage(rnd, g, 1, 5, 2, 9), supportImage(rnd, g, 6, 14, 0, 16)}
+	want := make([]float64, len(imgs))
+	for i, img := range imgs {
+		want[i] = c.Chi2(img)
+	}
+	errs := make(chan string, 64)
+	done := make(chan struct{})
+	for w := range 8 {
+		go func() {
+			defer func() { done <- struct{}{} }()
+			grad := make([]float64, g.Len())
+			for it := range 20 {
+				i := (w + it) % len(imgs)
+				if got := c.Chi2(imgs[i]); got != want[i] {
+					errs <- "Chi2 differs under concurrency"
+					return
+				}
+				if got := c.Chi2Grad(grad, imgs[i]); math.Abs(got-want[i]) > 1e-9*want[i] {
+					errs <- "Chi2Grad differs under concurrency"
+					return
+				}
+			}
+		}()
+	}
+	for range 8 {
+		<-done
+	}
+	close(errs)
+	for e := range errs {
+		t.Error(e)
+	}
+}
