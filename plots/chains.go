@@ -50,23 +50,28 @@ func (ch Chain) check() (walkers, steps int, err error) {
 	return walkers, steps, nil
 }
 
-// maxTraceVertices bounds the vertices drawn per walker line; longer
-// chains are drawn at a regular stride (every ⌈steps/2000⌉-th step).
-const maxTraceVertices = 2000
+// maxTraceVertices bounds the vertices drawn per walker line (a column-
+// wide panel is about 900 pixels across at DPI).
+const maxTraceVertices = 1000
 
 // TraceFigure draws each parameter against step number, one thin
 // translucent line per walker, one panel per parameter stacked with a
-// shared step axis, at column width. Chains longer than 2000 steps are
-// drawn at a regular stride of steps, which the axis label states.
+// shared step axis, at column width. Chains longer than 1000 steps are
+// drawn as their envelope: each run of s = ⌈2·steps/1000⌉ steps contributes
+// its lowest and highest value, in step order, so no excursion is hidden;
+// the axis label states s.
 func TraceFigure(ch Chain) (*Figure, error) {
 	walkers, steps, err := ch.check()
 	if err != nil {
 		return nil, err
 	}
-	stride := (steps + maxTraceVertices - 1) / maxTraceVertices
+	stride := 1
+	if steps > maxTraceVertices {
+		stride = (2*steps + maxTraceVertices - 1) / maxTraceVertices
+	}
 	xlabel := "step"
 	if stride > 1 {
-		xlabel = fmt.Sprintf("step (every %d-th drawn)", stride)
+		xlabel = fmt.Sprintf("step (min–max per %d steps)", stride)
 	}
 	np := len(ch.Names)
 	grid := plotGrid{plots: make([][]*plot.Plot, np)}
@@ -74,15 +79,14 @@ func TraceFigure(ch Chain) (*Figure, error) {
 	for k := range np {
 		p := newPlot(xlabel, ch.Names[k])
 		p.Y.Tick.Marker = fewTicks{}
+		c := qualitative[0]
+		c.A = alpha
+		ls := draw.LineStyle{Color: premultiplied(c), Width: 0.4}
 		for w := range walkers {
-			xy := make(plotter.XYs, 0, steps/stride+1)
-			for t := 0; t < steps; t += stride {
-				xy = append(xy, plotter.XY{X: float64(t), Y: ch.Samples[w][t][k]})
+			l, err := newLine(traceVertices(ch.Samples[w], k, stride), ls)
+			if err != nil {
+				return nil, err
 			}
-			l, _ := plotter.NewLine(xy)
-			c := qualitative[0]
-			c.A = alpha
-			l.LineStyle = draw.LineStyle{Color: premultiplied(c), Width: 0.4}
 			p.Add(l)
 		}
 		p.X.Min, p.X.Max = 0, float64(steps-1)
@@ -94,6 +98,38 @@ func TraceFigure(ch Chain) (*Figure, error) {
 	f := &Figure{Width: ColumnWidth, Height: vg.Length(np)*0.75*vg.Inch + 0.5*vg.Inch}
 	f.Add(0, 0, 1, 1, grid)
 	return f, nil
+}
+
+// traceVertices returns parameter k of one walker against step: every step
+// when stride is 1, else the minimum and maximum of each run of stride
+// steps, in step order.
+func traceVertices(walker [][]float64, k, stride int) plotter.XYs {
+	steps := len(walker)
+	if stride <= 1 {
+		xy := make(plotter.XYs, steps)
+		for t, x := range walker {
+			xy[t] = plotter.XY{X: float64(t), Y: x[k]}
+		}
+		return xy
+	}
+	xy := make(plotter.XYs, 0, 2*(steps/stride+1))
+	for t0 := 0; t0 < steps; t0 += stride {
+		lo, hi := t0, t0
+		for t := t0; t < min(steps, t0+stride); t++ {
+			if walker[t][k] < walker[lo][k] {
+				lo = t
+			}
+			if walker[t][k] > walker[hi][k] {
+				hi = t
+			}
+		}
+		a, b := min(lo, hi), max(lo, hi)
+		xy = append(xy, plotter.XY{X: float64(a), Y: walker[a][k]})
+		if b != a {
+			xy = append(xy, plotter.XY{X: float64(b), Y: walker[b][k]})
+		}
+	}
+	return xy
 }
 
 // premultiplied converts non-premultiplied colour to color.RGBA.
@@ -200,10 +236,13 @@ func AutocorrFigure(ch Chain, maxLag int) (*Figure, error) {
 		for l, r := range mean {
 			xy[l] = plotter.XY{X: float64(l), Y: r}
 		}
-		l, _ := plotter.NewLine(xy)
-		l.LineStyle = lineStyle(qcolor(k))
+		ls := lineStyle(qcolor(k))
 		if k >= len(qualitative)-1 {
-			l.LineStyle.Dashes = dashed
+			ls.Dashes = dashed
+		}
+		l, err := newLine(xy, ls)
+		if err != nil {
+			return nil, err
 		}
 		p.Add(l)
 		rel := "≈"

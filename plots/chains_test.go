@@ -100,3 +100,28 @@ func TestChainErrors(t *testing.T) {
 		})
 	}
 }
+
+func TestTraceVerticesEnvelope(t *testing.T) {
+	// One spike in a long flat walk must survive the decimation.
+	walker := make([][]float64, 10000)
+	for s := range walker {
+		walker[s] = []float64{0}
+	}
+	walker[4321][0] = 7
+	xy := traceVertices(walker, 0, 20)
+	found := false
+	for k, p := range xy {
+		if p.Y == 7 && p.X == 4321 {
+			found = true
+		}
+		if k > 0 && p.X <= xy[k-1].X {
+			t.Fatalf("vertices out of step order at %d", k)
+		}
+	}
+	if !found {
+		t.Error("the spike at step 4321 was lost")
+	}
+	if len(xy) > 2*10000/20+2 {
+		t.Errorf("%d vertices, want ≤ %d", len(xy), 2*10000/20+2)
+	}
+}

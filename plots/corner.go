@@ -100,8 +100,10 @@ func CornerFigure(post Posterior) (*Figure, error) {
 					step = append(step, plotter.XY{X: lo[c] + float64(b)*dx, Y: v / top}, plotter.XY{X: lo[c] + float64(b+1)*dx, Y: v / top})
 				}
 				step = append(step, plotter.XY{X: hi[c], Y: 0})
-				l, _ := plotter.NewLine(step)
-				l.LineStyle = lineStyle(qualitative[0])
+				l, err := newLine(step, lineStyle(qualitative[0]))
+				if err != nil {
+					return nil, err
+				}
 				p.Add(l)
 				q := WeightedQuantiles(cols[c], w, 0.16, 0.5, 0.84)
 				for m, v := range q {

@@ -35,8 +35,9 @@ const maxSigmaLevels = 10
 // at page width, east left and north up. Data and model share one viridis
 // scale in mJy/beam, spanning both images' range inside the view; the
 // residual is drawn in units of σ on the Diverging map, symmetric about
-// zero, with contours at ±2, 3, 4, … σ (negative dashed, at most ten of
-// each sign).
+// zero and saturating beyond ±6σ (or the residual's peak |r|/σ when that
+// is between 3 and 6), with contours at ±2, 3, 4, … σ (negative dashed, at
+// most ten of each sign).
 func DirtyFigure(d DirtyImages) (*Figure, error) {
 	for _, c := range []struct {
 		name string
@@ -70,7 +71,10 @@ func DirtyFigure(d DirtyImages) (*Figure, error) {
 	lo1, hi1 := views[1].minMax(mJy)
 	lo, hi := math.Min(lo0, lo1), math.Max(hi0, hi1)
 	rlo, rhi := views[2].minMax(1 / sigma)
-	lim := math.Max(3, math.Max(-rlo, rhi))
+	// Residual colours span ±max(3, min(peak |r|/σ, 6))σ and saturate
+	// beyond, so noise-level structure stays visible next to a bright
+	// residual; the contours carry the rest.
+	lim := math.Max(3, math.Min(6, math.Max(-rlo, rhi)))
 
 	f := &Figure{Width: PageWidth, Height: 2.3 * vg.Inch}
 	titles := []string{"data", "model", fmt.Sprintf("residual (σ = %s mJy/beam)", fmtG(sigma*mJy))}

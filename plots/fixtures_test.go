@@ -50,7 +50,13 @@ func dirtyFixture(n int) DirtyImages {
 	rng := rand.New(rand.NewPCG(1, 1))
 	pix := 0.05
 	comps := [][4]float64{{2e-3, 0.4, 0.3, 0.12}, {1.5e-3, -0.5, -0.2, 0.1}, {0.8e-3, 0.1, -0.6, 0.08}}
-	data := gaussImage(n, pix, comps, 5e-5, rng)
+	// Dirty-image noise is correlated on the beam scale: white noise
+	// smoothed by a Gaussian of 2 pixels, rescaled to 50 μJy/beam rms.
+	data := gaussImage(n, pix, comps, 0, rng)
+	noise := smoothNoise(n, 2, rng)
+	for k := range data.Values {
+		data.Values[k] += 5e-5 * noise[k]
+	}
 	model := gaussImage(n, pix, comps[:2], 0, rng)
 	res := SkyImage{N: n, Pixel: pix, Values: make([]float64, n*n)}
 	for k := range res.Values {
@@ -252,4 +258,47 @@ func predictFixture(n int) Prediction {
 	return Prediction{Lensed: lensed, Source: src, Unit: "mJy/pixel", Scale: 1e3,
 		Critical: []Polyline{ring(0, 0, 0.95, 200)}, Caustics: []Polyline{astroid(0.3, 200)},
 		Images: []Point{{0.8, 0.5}, {-0.6, -0.45}}, Sources: []Point{{0.05, 0.02}}}
+}
+
+// smoothNoise returns n×n unit-rms white noise smoothed by a Gaussian of
+// sigma pixels (periodic edges).
+func smoothNoise(n int, sigma float64, rng *rand.Rand) []float64 {
+	x := make([]float64, n*n)
+	for k := range x {
+		x[k] = rng.NormFloat64()
+	}
+	h := int(3 * sigma)
+	ker := make([]float64, 2*h+1)
+	for k := range ker {
+		d := float64(k - h)
+		ker[k] = math.Exp(-d * d / (2 * sigma * sigma))
+	}
+	tmp := make([]float64, n*n)
+	for j := range n {
+		for i := range n {
+			s := 0.0
+			for k, kv := range ker {
+				s += kv * x[j*n+((i+k-h)%n+n)%n]
+			}
+			tmp[j*n+i] = s
+		}
+	}
+	for j := range n {
+		for i := range n {
+			s := 0.0
+			for k, kv := range ker {
+				s += kv * tmp[(((j+k-h)%n+n)%n)*n+i]
+			}
+			x[j*n+i] = s
+		}
+	}
+	ss := 0.0
+	for _, v := range x {
+		ss += v * v
+	}
+	rms := math.Sqrt(ss / float64(len(x)))
+	for k := range x {
+		x[k] /= rms
+	}
+	return x
 }

@@ -6,6 +6,7 @@ import (
 	"math"
 
 	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/text"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
@@ -240,39 +241,38 @@ func (g plotGrid) Draw(c draw.Canvas) {
 		return nil
 	}
 	// Line up data-area edges: in each column the largest left and right
-	// axis allowance wins; in each row the largest bottom and top.
+	// axis allowance wins, in each row the largest bottom and top. Axis
+	// sizes hardly depend on the cell size, so one measurement suffices.
+	type insets struct{ l, r, b, t vg.Length }
+	ins := make([][]insets, rows)
+	for r := range rows {
+		ins[r] = make([]insets, cols)
+		for k := range cols {
+			if p := at(r, k); p != nil {
+				cc := cells[r][k]
+				dc := p.DataCanvas(cc)
+				ins[r][k] = insets{dc.Min.X - cc.Min.X, cc.Max.X - dc.Max.X, dc.Min.Y - cc.Min.Y, cc.Max.Y - dc.Max.Y}
+			}
+		}
+	}
 	for k := range cols {
 		var l, rr vg.Length
 		for r := range rows {
-			if p := at(r, k); p != nil {
-				dc := p.DataCanvas(cells[r][k])
-				l = max(l, dc.Min.X-cells[r][k].Min.X)
-				rr = max(rr, cells[r][k].Max.X-dc.Max.X)
-			}
+			l, rr = max(l, ins[r][k].l), max(rr, ins[r][k].r)
 		}
 		for r := range rows {
-			if p := at(r, k); p != nil {
-				dc := p.DataCanvas(cells[r][k])
-				cells[r][k].Min.X += l - (dc.Min.X - cells[r][k].Min.X)
-				cells[r][k].Max.X -= rr - (cells[r][k].Max.X - dc.Max.X)
-			}
+			cells[r][k].Min.X += l - ins[r][k].l
+			cells[r][k].Max.X -= rr - ins[r][k].r
 		}
 	}
 	for r := range rows {
 		var b, t vg.Length
 		for k := range cols {
-			if p := at(r, k); p != nil {
-				dc := p.DataCanvas(cells[r][k])
-				b = max(b, dc.Min.Y-cells[r][k].Min.Y)
-				t = max(t, cells[r][k].Max.Y-dc.Max.Y)
-			}
+			b, t = max(b, ins[r][k].b), max(t, ins[r][k].t)
 		}
 		for k := range cols {
-			if p := at(r, k); p != nil {
-				dc := p.DataCanvas(cells[r][k])
-				cells[r][k].Min.Y += b - (dc.Min.Y - cells[r][k].Min.Y)
-				cells[r][k].Max.Y -= t - (cells[r][k].Max.Y - dc.Max.Y)
-			}
+			cells[r][k].Min.Y += b - ins[r][k].b
+			cells[r][k].Max.Y -= t - ins[r][k].t
 		}
 	}
 	for r := range rows {
@@ -304,4 +304,21 @@ func (t textPanel) Plot(c draw.Canvas, _ *plot.Plot) {
 		c.FillText(sty, vg.Point{X: x, Y: y}, l)
 		y -= sty.Height(l) * 1.15
 	}
+}
+
+// bareLine is a plotter.Line without glyph boxes: its points never widen
+// the plot's padding (curves may run outside a zoomed view), and layout
+// does not pay for one box per vertex.
+type bareLine struct{ *plotter.Line }
+
+func (bareLine) GlyphBoxes(*plot.Plot) []plot.GlyphBox { return nil }
+
+// newLine returns a bareLine through xy in style ls.
+func newLine(xy plotter.XYs, ls draw.LineStyle) (bareLine, error) {
+	l, err := plotter.NewLine(xy)
+	if err != nil {
+		return bareLine{}, err
+	}
+	l.LineStyle = ls
+	return bareLine{l}, nil
 }

@@ -324,11 +324,10 @@ func addCurves(p *plot.Plot, curves []Polyline, ls draw.LineStyle) error {
 			}
 			xy[m] = plotter.XY{X: q.X, Y: q.Y}
 		}
-		l, err := plotter.NewLine(xy)
+		l, err := newLine(xy, ls)
 		if err != nil {
 			return err
 		}
-		l.LineStyle = ls
 		p.Add(l)
 	}
 	return nil
