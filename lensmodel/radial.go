@@ -85,11 +85,39 @@ func newRadialTable(rho func(r float64) float64) *radialTable {
 		t.lk[i] = math.Log(kbar)
 		t.sl[i] = 2 * (k - kbar) / kbar
 	}
-	// ψ(x_0) as the inner power law κ̄ ∝ x^p gives, then node to node.
+	t.integratePotential()
+	return t
+}
+
+// integratePotential fills t.psi from t.lk and t.sl: ψ(x_0) as the inner
+// power law κ̄ ∝ x^p gives, then node to node.
+func (t *radialTable) integratePotential() {
 	t.psi[0] = math.Exp(t.lk[0]) * radialXMin * radialXMin / (2 + t.sl[0])
-	for i := 1; i < n; i++ {
+	for i := 1; i < len(t.psi); i++ {
 		t.psi[i] = t.psi[i-1] + t.psiStep(i-1, t.lnx0+float64(i)*t.dlnx)
 	}
+}
+
+// interpolateTables returns the table whose ln κ̄ and slopes at every node
+// are the Lagrange interpolation, with weights w, of those of ts (tables of
+// one profile family at neighbouring shape parameters), with its potential
+// integrated afresh so that α = ∇ψ stays exact.
+func interpolateTables(ts []*radialTable, w []float64) *radialTable {
+	n := len(ts[0].lk)
+	t := &radialTable{
+		lnx0: ts[0].lnx0,
+		dlnx: ts[0].dlnx,
+		lk:   make([]float64, n),
+		sl:   make([]float64, n),
+		psi:  make([]float64, n),
+	}
+	for j, s := range ts {
+		for i := range n {
+			t.lk[i] += w[j] * s.lk[i]
+			t.sl[i] += w[j] * s.sl[i]
+		}
+	}
+	t.integratePotential()
 	return t
 }
 
