@@ -2,8 +2,6 @@
 
 package nufft
 
-import "math"
-
 //go:generate go run gen_avx.go
 
 // cpuidex and xgetbv0 are in kernels_amd64.s.
@@ -33,52 +31,20 @@ func detectAVX() bool {
 
 // interpBandAVX is interpBand with the assembly kernels (dst in sorted order).
 func (p *Plan) interpBandAVX(lo, hi int, dst []complex128) {
-	fn := interpAVX[p.w]
-	k := &p.ker
-	hw := float64(p.w) / 2
-	stride := (k.deg + 1) * k.lanes
-	g := p.padded
-	np, pad := p.np, p.pad
-	limit := len(g) - ((p.w-1)*np + k.lanes/2)
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
-	out := dst[lo:hi]
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		jx, zx := piece(fx - x + hw)
-		jy, zy := piece(fy - y + hw)
-		base := (int(fy)+pad)*np + int(fx) + pad
-		if uint(base) > uint(limit) {
-			panic("nufft: internal error: kernel outside the padded grid")
-		}
-		re, im := fn(&g[base], np, &k.dup[jx*stride], &k.dup[jy*stride], k.deg, zx, zy)
-		out[s] = complex(re, im)
+	if hi <= lo {
+		return
 	}
+	k := &p.ker
+	interpLoop[p.w](&p.padded[0], p.np, &k.dup[0], (k.deg+1)*k.lanes*8, k.deg,
+		&p.key[lo], &p.z[2*lo], &dst[lo], hi-lo)
 }
 
 // spreadBandAVX is spreadBand with the assembly kernels (c in sorted order).
 func (p *Plan) spreadBandAVX(lo, hi int, c []complex128) {
-	fn := spreadAVX[p.w]
-	k := &p.ker
-	hw := float64(p.w) / 2
-	stride := (k.deg + 1) * k.lanes
-	g := p.padded
-	np, pad := p.np, p.pad
-	limit := len(g) - ((p.w-1)*np + k.lanes/2)
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
-	cs := c[lo:hi]
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		jx, zx := piece(fx - x + hw)
-		jy, zy := piece(fy - y + hw)
-		base := (int(fy)+pad)*np + int(fx) + pad
-		if uint(base) > uint(limit) {
-			panic("nufft: internal error: kernel outside the padded grid")
-		}
-		v := cs[s]
-		fn(&g[base], np, &k.dup[jx*stride], &k.dup[jy*stride], k.deg, zx, zy, real(v), imag(v))
+	if hi <= lo {
+		return
 	}
+	k := &p.ker
+	spreadLoop[p.w](&p.padded[0], p.np, &k.dup[0], (k.deg+1)*k.lanes*8, k.deg,
+		&p.key[lo], &p.z[2*lo], &c[lo], hi-lo)
 }

@@ -30,7 +30,7 @@ type FFT2 struct {
 }
 
 // colBlock is the number of columns FFT2 gathers into contiguous lines at once.
-const colBlock = 8
+const colBlock = 16
 
 // NewFFT2 returns a plan for n×n transforms, n ≥ 1.
 func NewFFT2(n int) *FFT2 {

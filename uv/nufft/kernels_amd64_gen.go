@@ -5,127 +5,127 @@
 package nufft
 
 //go:noescape
-func interpAVXW2(grid *complex128, np int, cx, cy *float64, deg int, zx, zy float64) (re, im float64)
+func interpLoopW2(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func spreadAVXW2(grid *complex128, np int, cx, cy *float64, deg int, zx, zy, vr, vi float64)
+func spreadLoopW2(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func interpAVXW3(grid *complex128, np int, cx, cy *float64, deg int, zx, zy float64) (re, im float64)
+func interpLoopW3(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func spreadAVXW3(grid *complex128, np int, cx, cy *float64, deg int, zx, zy, vr, vi float64)
+func spreadLoopW3(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func interpAVXW4(grid *complex128, np int, cx, cy *float64, deg int, zx, zy float64) (re, im float64)
+func interpLoopW4(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func spreadAVXW4(grid *complex128, np int, cx, cy *float64, deg int, zx, zy, vr, vi float64)
+func spreadLoopW4(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func interpAVXW5(grid *complex128, np int, cx, cy *float64, deg int, zx, zy float64) (re, im float64)
+func interpLoopW5(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func spreadAVXW5(grid *complex128, np int, cx, cy *float64, deg int, zx, zy, vr, vi float64)
+func spreadLoopW5(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func interpAVXW6(grid *complex128, np int, cx, cy *float64, deg int, zx, zy float64) (re, im float64)
+func interpLoopW6(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func spreadAVXW6(grid *complex128, np int, cx, cy *float64, deg int, zx, zy, vr, vi float64)
+func spreadLoopW6(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func interpAVXW7(grid *complex128, np int, cx, cy *float64, deg int, zx, zy float64) (re, im float64)
+func interpLoopW7(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func spreadAVXW7(grid *complex128, np int, cx, cy *float64, deg int, zx, zy, vr, vi float64)
+func spreadLoopW7(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func interpAVXW8(grid *complex128, np int, cx, cy *float64, deg int, zx, zy float64) (re, im float64)
+func interpLoopW8(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func spreadAVXW8(grid *complex128, np int, cx, cy *float64, deg int, zx, zy, vr, vi float64)
+func spreadLoopW8(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func interpAVXW9(grid *complex128, np int, cx, cy *float64, deg int, zx, zy float64) (re, im float64)
+func interpLoopW9(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func spreadAVXW9(grid *complex128, np int, cx, cy *float64, deg int, zx, zy, vr, vi float64)
+func spreadLoopW9(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func interpAVXW10(grid *complex128, np int, cx, cy *float64, deg int, zx, zy float64) (re, im float64)
+func interpLoopW10(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func spreadAVXW10(grid *complex128, np int, cx, cy *float64, deg int, zx, zy, vr, vi float64)
+func spreadLoopW10(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func interpAVXW11(grid *complex128, np int, cx, cy *float64, deg int, zx, zy float64) (re, im float64)
+func interpLoopW11(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func spreadAVXW11(grid *complex128, np int, cx, cy *float64, deg int, zx, zy, vr, vi float64)
+func spreadLoopW11(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func interpAVXW12(grid *complex128, np int, cx, cy *float64, deg int, zx, zy float64) (re, im float64)
+func interpLoopW12(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func spreadAVXW12(grid *complex128, np int, cx, cy *float64, deg int, zx, zy, vr, vi float64)
+func spreadLoopW12(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func interpAVXW13(grid *complex128, np int, cx, cy *float64, deg int, zx, zy float64) (re, im float64)
+func interpLoopW13(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func spreadAVXW13(grid *complex128, np int, cx, cy *float64, deg int, zx, zy, vr, vi float64)
+func spreadLoopW13(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func interpAVXW14(grid *complex128, np int, cx, cy *float64, deg int, zx, zy float64) (re, im float64)
+func interpLoopW14(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func spreadAVXW14(grid *complex128, np int, cx, cy *float64, deg int, zx, zy, vr, vi float64)
+func spreadLoopW14(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func interpAVXW15(grid *complex128, np int, cx, cy *float64, deg int, zx, zy float64) (re, im float64)
+func interpLoopW15(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func spreadAVXW15(grid *complex128, np int, cx, cy *float64, deg int, zx, zy, vr, vi float64)
+func spreadLoopW15(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func interpAVXW16(grid *complex128, np int, cx, cy *float64, deg int, zx, zy float64) (re, im float64)
+func interpLoopW16(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
 //go:noescape
-func spreadAVXW16(grid *complex128, np int, cx, cy *float64, deg int, zx, zy, vr, vi float64)
+func spreadLoopW16(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
-var interpAVX = [...]func(grid *complex128, np int, cx, cy *float64, deg int, zx, zy float64) (re, im float64){
-	2:  interpAVXW2,
-	3:  interpAVXW3,
-	4:  interpAVXW4,
-	5:  interpAVXW5,
-	6:  interpAVXW6,
-	7:  interpAVXW7,
-	8:  interpAVXW8,
-	9:  interpAVXW9,
-	10: interpAVXW10,
-	11: interpAVXW11,
-	12: interpAVXW12,
-	13: interpAVXW13,
-	14: interpAVXW14,
-	15: interpAVXW15,
-	16: interpAVXW16,
+var interpLoop = [...]func(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int){
+	2:  interpLoopW2,
+	3:  interpLoopW3,
+	4:  interpLoopW4,
+	5:  interpLoopW5,
+	6:  interpLoopW6,
+	7:  interpLoopW7,
+	8:  interpLoopW8,
+	9:  interpLoopW9,
+	10: interpLoopW10,
+	11: interpLoopW11,
+	12: interpLoopW12,
+	13: interpLoopW13,
+	14: interpLoopW14,
+	15: interpLoopW15,
+	16: interpLoopW16,
 }
 
-var spreadAVX = [...]func(grid *complex128, np int, cx, cy *float64, deg int, zx, zy, vr, vi float64){
-	2:  spreadAVXW2,
-	3:  spreadAVXW3,
-	4:  spreadAVXW4,
-	5:  spreadAVXW5,
-	6:  spreadAVXW6,
-	7:  spreadAVXW7,
-	8:  spreadAVXW8,
-	9:  spreadAVXW9,
-	10: spreadAVXW10,
-	11: spreadAVXW11,
-	12: spreadAVXW12,
-	13: spreadAVXW13,
-	14: spreadAVXW14,
-	15: spreadAVXW15,
-	16: spreadAVXW16,
+var spreadLoop = [...]func(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int){
+	2:  spreadLoopW2,
+	3:  spreadLoopW3,
+	4:  spreadLoopW4,
+	5:  spreadLoopW5,
+	6:  spreadLoopW6,
+	7:  spreadLoopW7,
+	8:  spreadLoopW8,
+	9:  spreadLoopW9,
+	10: spreadLoopW10,
+	11: spreadLoopW11,
+	12: spreadLoopW12,
+	13: spreadLoopW13,
+	14: spreadLoopW14,
+	15: spreadLoopW15,
+	16: spreadLoopW16,
 }

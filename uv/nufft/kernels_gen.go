@@ -2,8 +2,6 @@
 
 package nufft
 
-import "math"
-
 // interpBand runs interpolate's loop over sorted points [lo, hi), writing dst[lo:hi] (sorted order).
 func (p *Plan) interpBand(lo, hi int, dst []complex128) {
 	switch p.w {
@@ -81,9 +79,7 @@ func (p *Plan) spreadBand(lo, hi int, c []complex128) {
 }
 
 // hornerPairW2 is hornerW2 for two offsets at once.
-func hornerPairW2(k *esKernel, fracx, fracy float64, kx, ky *[2]float64) {
-	jx, zx := piece(fracx)
-	jy, zy := piece(fracy)
+func hornerPairW2(k *esKernel, jx int, zx float64, jy int, zy float64, kx, ky *[2]float64) {
 	deg := k.deg
 	cx := k.coef[jx*(deg+1)*2:]
 	cy := k.coef[jy*(deg+1)*2:]
@@ -106,18 +102,14 @@ func hornerPairW2(k *esKernel, fracx, fracy float64, kx, ky *[2]float64) {
 // interpW2 is interpolate's loop for w = 2.
 func interpW2(p *Plan, lo, hi int, dst []complex128) {
 	out := dst[lo:hi]
-	const hw = 1
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [2]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerPairW2(k, fx-x+hw, fy-y+hw, &kx, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerPairW2(k, jx, zs[2*s], jy, zs[2*s+1], &kx, &ky)
 		var sr, si float64
 		for bi, vy := range ky {
 			row := (*[2]complex128)(g[base+bi*np:])
@@ -131,18 +123,14 @@ func interpW2(p *Plan, lo, hi int, dst []complex128) {
 // spreadW2 is spread's loop for w = 2.
 func spreadW2(p *Plan, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
-	const hw = 1
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [2]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerPairW2(k, fx-x+hw, fy-y+hw, &kx, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerPairW2(k, jx, zs[2*s], jy, zs[2*s+1], &kx, &ky)
 		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
@@ -155,9 +143,7 @@ func spreadW2(p *Plan, lo, hi int, c []complex128) {
 }
 
 // hornerPairW3 is hornerW3 for two offsets at once.
-func hornerPairW3(k *esKernel, fracx, fracy float64, kx, ky *[3]float64) {
-	jx, zx := piece(fracx)
-	jy, zy := piece(fracy)
+func hornerPairW3(k *esKernel, jx int, zx float64, jy int, zy float64, kx, ky *[3]float64) {
 	deg := k.deg
 	cx := k.coef[jx*(deg+1)*3:]
 	cy := k.coef[jy*(deg+1)*3:]
@@ -182,18 +168,14 @@ func hornerPairW3(k *esKernel, fracx, fracy float64, kx, ky *[3]float64) {
 // interpW3 is interpolate's loop for w = 3.
 func interpW3(p *Plan, lo, hi int, dst []complex128) {
 	out := dst[lo:hi]
-	const hw = 1.5
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [3]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerPairW3(k, fx-x+hw, fy-y+hw, &kx, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerPairW3(k, jx, zs[2*s], jy, zs[2*s+1], &kx, &ky)
 		var sr, si float64
 		for bi, vy := range ky {
 			row := (*[3]complex128)(g[base+bi*np:])
@@ -207,18 +189,14 @@ func interpW3(p *Plan, lo, hi int, dst []complex128) {
 // spreadW3 is spread's loop for w = 3.
 func spreadW3(p *Plan, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
-	const hw = 1.5
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [3]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerPairW3(k, fx-x+hw, fy-y+hw, &kx, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerPairW3(k, jx, zs[2*s], jy, zs[2*s+1], &kx, &ky)
 		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
@@ -232,9 +210,7 @@ func spreadW3(p *Plan, lo, hi int, c []complex128) {
 }
 
 // hornerPairW4 is hornerW4 for two offsets at once.
-func hornerPairW4(k *esKernel, fracx, fracy float64, kx, ky *[4]float64) {
-	jx, zx := piece(fracx)
-	jy, zy := piece(fracy)
+func hornerPairW4(k *esKernel, jx int, zx float64, jy int, zy float64, kx, ky *[4]float64) {
 	deg := k.deg
 	cx := k.coef[jx*(deg+1)*4:]
 	cy := k.coef[jy*(deg+1)*4:]
@@ -261,18 +237,14 @@ func hornerPairW4(k *esKernel, fracx, fracy float64, kx, ky *[4]float64) {
 // interpW4 is interpolate's loop for w = 4.
 func interpW4(p *Plan, lo, hi int, dst []complex128) {
 	out := dst[lo:hi]
-	const hw = 2
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [4]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerPairW4(k, fx-x+hw, fy-y+hw, &kx, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerPairW4(k, jx, zs[2*s], jy, zs[2*s+1], &kx, &ky)
 		var sr, si float64
 		for bi, vy := range ky {
 			row := (*[4]complex128)(g[base+bi*np:])
@@ -286,18 +258,14 @@ func interpW4(p *Plan, lo, hi int, dst []complex128) {
 // spreadW4 is spread's loop for w = 4.
 func spreadW4(p *Plan, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
-	const hw = 2
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [4]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerPairW4(k, fx-x+hw, fy-y+hw, &kx, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerPairW4(k, jx, zs[2*s], jy, zs[2*s+1], &kx, &ky)
 		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
@@ -312,9 +280,7 @@ func spreadW4(p *Plan, lo, hi int, c []complex128) {
 }
 
 // hornerPairW5 is hornerW5 for two offsets at once.
-func hornerPairW5(k *esKernel, fracx, fracy float64, kx, ky *[5]float64) {
-	jx, zx := piece(fracx)
-	jy, zy := piece(fracy)
+func hornerPairW5(k *esKernel, jx int, zx float64, jy int, zy float64, kx, ky *[5]float64) {
 	deg := k.deg
 	cx := k.coef[jx*(deg+1)*5:]
 	cy := k.coef[jy*(deg+1)*5:]
@@ -343,18 +309,14 @@ func hornerPairW5(k *esKernel, fracx, fracy float64, kx, ky *[5]float64) {
 // interpW5 is interpolate's loop for w = 5.
 func interpW5(p *Plan, lo, hi int, dst []complex128) {
 	out := dst[lo:hi]
-	const hw = 2.5
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [5]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerPairW5(k, fx-x+hw, fy-y+hw, &kx, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerPairW5(k, jx, zs[2*s], jy, zs[2*s+1], &kx, &ky)
 		var sr, si float64
 		for bi, vy := range ky {
 			row := (*[5]complex128)(g[base+bi*np:])
@@ -368,18 +330,14 @@ func interpW5(p *Plan, lo, hi int, dst []complex128) {
 // spreadW5 is spread's loop for w = 5.
 func spreadW5(p *Plan, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
-	const hw = 2.5
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [5]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerPairW5(k, fx-x+hw, fy-y+hw, &kx, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerPairW5(k, jx, zs[2*s], jy, zs[2*s+1], &kx, &ky)
 		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
@@ -395,9 +353,7 @@ func spreadW5(p *Plan, lo, hi int, c []complex128) {
 }
 
 // hornerPairW6 is hornerW6 for two offsets at once.
-func hornerPairW6(k *esKernel, fracx, fracy float64, kx, ky *[6]float64) {
-	jx, zx := piece(fracx)
-	jy, zy := piece(fracy)
+func hornerPairW6(k *esKernel, jx int, zx float64, jy int, zy float64, kx, ky *[6]float64) {
 	deg := k.deg
 	cx := k.coef[jx*(deg+1)*6:]
 	cy := k.coef[jy*(deg+1)*6:]
@@ -428,18 +384,14 @@ func hornerPairW6(k *esKernel, fracx, fracy float64, kx, ky *[6]float64) {
 // interpW6 is interpolate's loop for w = 6.
 func interpW6(p *Plan, lo, hi int, dst []complex128) {
 	out := dst[lo:hi]
-	const hw = 3
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [6]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerPairW6(k, fx-x+hw, fy-y+hw, &kx, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerPairW6(k, jx, zs[2*s], jy, zs[2*s+1], &kx, &ky)
 		var sr, si float64
 		for bi, vy := range ky {
 			row := (*[6]complex128)(g[base+bi*np:])
@@ -453,18 +405,14 @@ func interpW6(p *Plan, lo, hi int, dst []complex128) {
 // spreadW6 is spread's loop for w = 6.
 func spreadW6(p *Plan, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
-	const hw = 3
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [6]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerPairW6(k, fx-x+hw, fy-y+hw, &kx, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerPairW6(k, jx, zs[2*s], jy, zs[2*s+1], &kx, &ky)
 		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
@@ -481,9 +429,7 @@ func spreadW6(p *Plan, lo, hi int, c []complex128) {
 }
 
 // hornerPairW7 is hornerW7 for two offsets at once.
-func hornerPairW7(k *esKernel, fracx, fracy float64, kx, ky *[7]float64) {
-	jx, zx := piece(fracx)
-	jy, zy := piece(fracy)
+func hornerPairW7(k *esKernel, jx int, zx float64, jy int, zy float64, kx, ky *[7]float64) {
 	deg := k.deg
 	cx := k.coef[jx*(deg+1)*7:]
 	cy := k.coef[jy*(deg+1)*7:]
@@ -516,18 +462,14 @@ func hornerPairW7(k *esKernel, fracx, fracy float64, kx, ky *[7]float64) {
 // interpW7 is interpolate's loop for w = 7.
 func interpW7(p *Plan, lo, hi int, dst []complex128) {
 	out := dst[lo:hi]
-	const hw = 3.5
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [7]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerPairW7(k, fx-x+hw, fy-y+hw, &kx, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerPairW7(k, jx, zs[2*s], jy, zs[2*s+1], &kx, &ky)
 		var sr, si float64
 		for bi, vy := range ky {
 			row := (*[7]complex128)(g[base+bi*np:])
@@ -541,18 +483,14 @@ func interpW7(p *Plan, lo, hi int, dst []complex128) {
 // spreadW7 is spread's loop for w = 7.
 func spreadW7(p *Plan, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
-	const hw = 3.5
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [7]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerPairW7(k, fx-x+hw, fy-y+hw, &kx, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerPairW7(k, jx, zs[2*s], jy, zs[2*s+1], &kx, &ky)
 		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
@@ -569,10 +507,9 @@ func spreadW7(p *Plan, lo, hi int, c []complex128) {
 	}
 }
 
-// hornerW8 sets ker to the kernel weights of the 8 taps for the
-// fractional offset frac ∈ [0, 1] (esKernel.horner, unrolled).
-func hornerW8(k *esKernel, frac float64, ker *[8]float64) {
-	j, z := piece(frac)
+// hornerW8 sets ker to the kernel weights of the 8 taps on polynomial
+// piece j at local variable z (esKernel.horner, unrolled).
+func hornerW8(k *esKernel, j int, z float64, ker *[8]float64) {
 	deg := k.deg
 	c := k.coef[j*(deg+1)*8:]
 	r := (*[8]float64)(c)
@@ -594,19 +531,15 @@ func hornerW8(k *esKernel, frac float64, ker *[8]float64) {
 // interpW8 is interpolate's loop for w = 8.
 func interpW8(p *Plan, lo, hi int, dst []complex128) {
 	out := dst[lo:hi]
-	const hw = 4
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [8]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerW8(k, fx-x+hw, &kx)
-		hornerW8(k, fy-y+hw, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerW8(k, jx, zs[2*s], &kx)
+		hornerW8(k, jy, zs[2*s+1], &ky)
 		var sr, si float64
 		for bi, vy := range ky {
 			row := (*[8]complex128)(g[base+bi*np:])
@@ -620,19 +553,15 @@ func interpW8(p *Plan, lo, hi int, dst []complex128) {
 // spreadW8 is spread's loop for w = 8.
 func spreadW8(p *Plan, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
-	const hw = 4
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [8]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerW8(k, fx-x+hw, &kx)
-		hornerW8(k, fy-y+hw, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerW8(k, jx, zs[2*s], &kx)
+		hornerW8(k, jy, zs[2*s+1], &ky)
 		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
@@ -650,10 +579,9 @@ func spreadW8(p *Plan, lo, hi int, c []complex128) {
 	}
 }
 
-// hornerW9 sets ker to the kernel weights of the 9 taps for the
-// fractional offset frac ∈ [0, 1] (esKernel.horner, unrolled).
-func hornerW9(k *esKernel, frac float64, ker *[9]float64) {
-	j, z := piece(frac)
+// hornerW9 sets ker to the kernel weights of the 9 taps on polynomial
+// piece j at local variable z (esKernel.horner, unrolled).
+func hornerW9(k *esKernel, j int, z float64, ker *[9]float64) {
 	deg := k.deg
 	c := k.coef[j*(deg+1)*9:]
 	r := (*[9]float64)(c)
@@ -676,19 +604,15 @@ func hornerW9(k *esKernel, frac float64, ker *[9]float64) {
 // interpW9 is interpolate's loop for w = 9.
 func interpW9(p *Plan, lo, hi int, dst []complex128) {
 	out := dst[lo:hi]
-	const hw = 4.5
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [9]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerW9(k, fx-x+hw, &kx)
-		hornerW9(k, fy-y+hw, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerW9(k, jx, zs[2*s], &kx)
+		hornerW9(k, jy, zs[2*s+1], &ky)
 		var sr, si float64
 		for bi, vy := range ky {
 			row := (*[9]complex128)(g[base+bi*np:])
@@ -702,19 +626,15 @@ func interpW9(p *Plan, lo, hi int, dst []complex128) {
 // spreadW9 is spread's loop for w = 9.
 func spreadW9(p *Plan, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
-	const hw = 4.5
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [9]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerW9(k, fx-x+hw, &kx)
-		hornerW9(k, fy-y+hw, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerW9(k, jx, zs[2*s], &kx)
+		hornerW9(k, jy, zs[2*s+1], &ky)
 		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
@@ -733,10 +653,9 @@ func spreadW9(p *Plan, lo, hi int, c []complex128) {
 	}
 }
 
-// hornerW10 sets ker to the kernel weights of the 10 taps for the
-// fractional offset frac ∈ [0, 1] (esKernel.horner, unrolled).
-func hornerW10(k *esKernel, frac float64, ker *[10]float64) {
-	j, z := piece(frac)
+// hornerW10 sets ker to the kernel weights of the 10 taps on polynomial
+// piece j at local variable z (esKernel.horner, unrolled).
+func hornerW10(k *esKernel, j int, z float64, ker *[10]float64) {
 	deg := k.deg
 	c := k.coef[j*(deg+1)*10:]
 	r := (*[10]float64)(c)
@@ -760,19 +679,15 @@ func hornerW10(k *esKernel, frac float64, ker *[10]float64) {
 // interpW10 is interpolate's loop for w = 10.
 func interpW10(p *Plan, lo, hi int, dst []complex128) {
 	out := dst[lo:hi]
-	const hw = 5
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [10]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerW10(k, fx-x+hw, &kx)
-		hornerW10(k, fy-y+hw, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerW10(k, jx, zs[2*s], &kx)
+		hornerW10(k, jy, zs[2*s+1], &ky)
 		var sr, si float64
 		for bi, vy := range ky {
 			row := (*[10]complex128)(g[base+bi*np:])
@@ -786,19 +701,15 @@ func interpW10(p *Plan, lo, hi int, dst []complex128) {
 // spreadW10 is spread's loop for w = 10.
 func spreadW10(p *Plan, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
-	const hw = 5
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [10]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerW10(k, fx-x+hw, &kx)
-		hornerW10(k, fy-y+hw, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerW10(k, jx, zs[2*s], &kx)
+		hornerW10(k, jy, zs[2*s+1], &ky)
 		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
@@ -818,10 +729,9 @@ func spreadW10(p *Plan, lo, hi int, c []complex128) {
 	}
 }
 
-// hornerW11 sets ker to the kernel weights of the 11 taps for the
-// fractional offset frac ∈ [0, 1] (esKernel.horner, unrolled).
-func hornerW11(k *esKernel, frac float64, ker *[11]float64) {
-	j, z := piece(frac)
+// hornerW11 sets ker to the kernel weights of the 11 taps on polynomial
+// piece j at local variable z (esKernel.horner, unrolled).
+func hornerW11(k *esKernel, j int, z float64, ker *[11]float64) {
 	deg := k.deg
 	c := k.coef[j*(deg+1)*11:]
 	r := (*[11]float64)(c)
@@ -846,19 +756,15 @@ func hornerW11(k *esKernel, frac float64, ker *[11]float64) {
 // interpW11 is interpolate's loop for w = 11.
 func interpW11(p *Plan, lo, hi int, dst []complex128) {
 	out := dst[lo:hi]
-	const hw = 5.5
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [11]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerW11(k, fx-x+hw, &kx)
-		hornerW11(k, fy-y+hw, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerW11(k, jx, zs[2*s], &kx)
+		hornerW11(k, jy, zs[2*s+1], &ky)
 		var sr, si float64
 		for bi, vy := range ky {
 			row := (*[11]complex128)(g[base+bi*np:])
@@ -872,19 +778,15 @@ func interpW11(p *Plan, lo, hi int, dst []complex128) {
 // spreadW11 is spread's loop for w = 11.
 func spreadW11(p *Plan, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
-	const hw = 5.5
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [11]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerW11(k, fx-x+hw, &kx)
-		hornerW11(k, fy-y+hw, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerW11(k, jx, zs[2*s], &kx)
+		hornerW11(k, jy, zs[2*s+1], &ky)
 		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
@@ -905,10 +807,9 @@ func spreadW11(p *Plan, lo, hi int, c []complex128) {
 	}
 }
 
-// hornerW12 sets ker to the kernel weights of the 12 taps for the
-// fractional offset frac ∈ [0, 1] (esKernel.horner, unrolled).
-func hornerW12(k *esKernel, frac float64, ker *[12]float64) {
-	j, z := piece(frac)
+// hornerW12 sets ker to the kernel weights of the 12 taps on polynomial
+// piece j at local variable z (esKernel.horner, unrolled).
+func hornerW12(k *esKernel, j int, z float64, ker *[12]float64) {
 	deg := k.deg
 	c := k.coef[j*(deg+1)*12:]
 	r := (*[12]float64)(c)
@@ -934,19 +835,15 @@ func hornerW12(k *esKernel, frac float64, ker *[12]float64) {
 // interpW12 is interpolate's loop for w = 12.
 func interpW12(p *Plan, lo, hi int, dst []complex128) {
 	out := dst[lo:hi]
-	const hw = 6
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [12]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerW12(k, fx-x+hw, &kx)
-		hornerW12(k, fy-y+hw, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerW12(k, jx, zs[2*s], &kx)
+		hornerW12(k, jy, zs[2*s+1], &ky)
 		var sr, si float64
 		for bi, vy := range ky {
 			row := (*[12]complex128)(g[base+bi*np:])
@@ -960,19 +857,15 @@ func interpW12(p *Plan, lo, hi int, dst []complex128) {
 // spreadW12 is spread's loop for w = 12.
 func spreadW12(p *Plan, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
-	const hw = 6
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [12]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerW12(k, fx-x+hw, &kx)
-		hornerW12(k, fy-y+hw, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerW12(k, jx, zs[2*s], &kx)
+		hornerW12(k, jy, zs[2*s+1], &ky)
 		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
@@ -994,10 +887,9 @@ func spreadW12(p *Plan, lo, hi int, c []complex128) {
 	}
 }
 
-// hornerW13 sets ker to the kernel weights of the 13 taps for the
-// fractional offset frac ∈ [0, 1] (esKernel.horner, unrolled).
-func hornerW13(k *esKernel, frac float64, ker *[13]float64) {
-	j, z := piece(frac)
+// hornerW13 sets ker to the kernel weights of the 13 taps on polynomial
+// piece j at local variable z (esKernel.horner, unrolled).
+func hornerW13(k *esKernel, j int, z float64, ker *[13]float64) {
 	deg := k.deg
 	c := k.coef[j*(deg+1)*13:]
 	r := (*[13]float64)(c)
@@ -1024,19 +916,15 @@ func hornerW13(k *esKernel, frac float64, ker *[13]float64) {
 // interpW13 is interpolate's loop for w = 13.
 func interpW13(p *Plan, lo, hi int, dst []complex128) {
 	out := dst[lo:hi]
-	const hw = 6.5
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [13]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerW13(k, fx-x+hw, &kx)
-		hornerW13(k, fy-y+hw, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerW13(k, jx, zs[2*s], &kx)
+		hornerW13(k, jy, zs[2*s+1], &ky)
 		var sr, si float64
 		for bi, vy := range ky {
 			row := (*[13]complex128)(g[base+bi*np:])
@@ -1050,19 +938,15 @@ func interpW13(p *Plan, lo, hi int, dst []complex128) {
 // spreadW13 is spread's loop for w = 13.
 func spreadW13(p *Plan, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
-	const hw = 6.5
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [13]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerW13(k, fx-x+hw, &kx)
-		hornerW13(k, fy-y+hw, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerW13(k, jx, zs[2*s], &kx)
+		hornerW13(k, jy, zs[2*s+1], &ky)
 		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
@@ -1085,10 +969,9 @@ func spreadW13(p *Plan, lo, hi int, c []complex128) {
 	}
 }
 
-// hornerW14 sets ker to the kernel weights of the 14 taps for the
-// fractional offset frac ∈ [0, 1] (esKernel.horner, unrolled).
-func hornerW14(k *esKernel, frac float64, ker *[14]float64) {
-	j, z := piece(frac)
+// hornerW14 sets ker to the kernel weights of the 14 taps on polynomial
+// piece j at local variable z (esKernel.horner, unrolled).
+func hornerW14(k *esKernel, j int, z float64, ker *[14]float64) {
 	deg := k.deg
 	c := k.coef[j*(deg+1)*14:]
 	r := (*[14]float64)(c)
@@ -1116,19 +999,15 @@ func hornerW14(k *esKernel, frac float64, ker *[14]float64) {
 // interpW14 is interpolate's loop for w = 14.
 func interpW14(p *Plan, lo, hi int, dst []complex128) {
 	out := dst[lo:hi]
-	const hw = 7
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [14]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerW14(k, fx-x+hw, &kx)
-		hornerW14(k, fy-y+hw, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerW14(k, jx, zs[2*s], &kx)
+		hornerW14(k, jy, zs[2*s+1], &ky)
 		var sr, si float64
 		for bi, vy := range ky {
 			row := (*[14]complex128)(g[base+bi*np:])
@@ -1142,19 +1021,15 @@ func interpW14(p *Plan, lo, hi int, dst []complex128) {
 // spreadW14 is spread's loop for w = 14.
 func spreadW14(p *Plan, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
-	const hw = 7
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [14]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerW14(k, fx-x+hw, &kx)
-		hornerW14(k, fy-y+hw, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerW14(k, jx, zs[2*s], &kx)
+		hornerW14(k, jy, zs[2*s+1], &ky)
 		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
@@ -1178,10 +1053,9 @@ func spreadW14(p *Plan, lo, hi int, c []complex128) {
 	}
 }
 
-// hornerW15 sets ker to the kernel weights of the 15 taps for the
-// fractional offset frac ∈ [0, 1] (esKernel.horner, unrolled).
-func hornerW15(k *esKernel, frac float64, ker *[15]float64) {
-	j, z := piece(frac)
+// hornerW15 sets ker to the kernel weights of the 15 taps on polynomial
+// piece j at local variable z (esKernel.horner, unrolled).
+func hornerW15(k *esKernel, j int, z float64, ker *[15]float64) {
 	deg := k.deg
 	c := k.coef[j*(deg+1)*15:]
 	r := (*[15]float64)(c)
@@ -1210,19 +1084,15 @@ func hornerW15(k *esKernel, frac float64, ker *[15]float64) {
 // interpW15 is interpolate's loop for w = 15.
 func interpW15(p *Plan, lo, hi int, dst []complex128) {
 	out := dst[lo:hi]
-	const hw = 7.5
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [15]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerW15(k, fx-x+hw, &kx)
-		hornerW15(k, fy-y+hw, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerW15(k, jx, zs[2*s], &kx)
+		hornerW15(k, jy, zs[2*s+1], &ky)
 		var sr, si float64
 		for bi, vy := range ky {
 			row := (*[15]complex128)(g[base+bi*np:])
@@ -1236,19 +1106,15 @@ func interpW15(p *Plan, lo, hi int, dst []complex128) {
 // spreadW15 is spread's loop for w = 15.
 func spreadW15(p *Plan, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
-	const hw = 7.5
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [15]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerW15(k, fx-x+hw, &kx)
-		hornerW15(k, fy-y+hw, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerW15(k, jx, zs[2*s], &kx)
+		hornerW15(k, jy, zs[2*s+1], &ky)
 		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {
@@ -1273,10 +1139,9 @@ func spreadW15(p *Plan, lo, hi int, c []complex128) {
 	}
 }
 
-// hornerW16 sets ker to the kernel weights of the 16 taps for the
-// fractional offset frac ∈ [0, 1] (esKernel.horner, unrolled).
-func hornerW16(k *esKernel, frac float64, ker *[16]float64) {
-	j, z := piece(frac)
+// hornerW16 sets ker to the kernel weights of the 16 taps on polynomial
+// piece j at local variable z (esKernel.horner, unrolled).
+func hornerW16(k *esKernel, j int, z float64, ker *[16]float64) {
 	deg := k.deg
 	c := k.coef[j*(deg+1)*16:]
 	r := (*[16]float64)(c)
@@ -1306,19 +1171,15 @@ func hornerW16(k *esKernel, frac float64, ker *[16]float64) {
 // interpW16 is interpolate's loop for w = 16.
 func interpW16(p *Plan, lo, hi int, dst []complex128) {
 	out := dst[lo:hi]
-	const hw = 8
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [16]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerW16(k, fx-x+hw, &kx)
-		hornerW16(k, fy-y+hw, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerW16(k, jx, zs[2*s], &kx)
+		hornerW16(k, jy, zs[2*s+1], &ky)
 		var sr, si float64
 		for bi, vy := range ky {
 			row := (*[16]complex128)(g[base+bi*np:])
@@ -1332,19 +1193,15 @@ func interpW16(p *Plan, lo, hi int, dst []complex128) {
 // spreadW16 is spread's loop for w = 16.
 func spreadW16(p *Plan, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
-	const hw = 8
 	k := &p.ker
 	g := p.padded
-	np, pad := p.np, p.pad
-	tx, ty := p.tx[lo:hi], p.ty[lo:hi]
+	np := p.np
+	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [16]float64
-	for s, x := range tx {
-		y := ty[s]
-		fx := math.Ceil(x - hw)
-		fy := math.Ceil(y - hw)
-		hornerW16(k, fx-x+hw, &kx)
-		hornerW16(k, fy-y+hw, &ky)
-		base := (int(fy)+pad)*np + int(fx) + pad
+	for s, key := range keys {
+		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
+		hornerW16(k, jx, zs[2*s], &kx)
+		hornerW16(k, jy, zs[2*s+1], &ky)
 		v := cs[s]
 		vr, vi := real(v), imag(v)
 		for bi, vy := range ky {

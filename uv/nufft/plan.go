@@ -43,8 +43,12 @@ type Plan struct {
 	npts   int
 	hb     int
 	nbands int
-	tx, ty []float64 // fine-grid coordinates in [0, nf), sorted order
-	perm   []int32   // perm[sorted index] = caller's index
+	// For sorted point s: key[s] = base<<8 | jx<<4 | jy, base the padded-grid
+	// index of the first kernel tap and jx, jy the polynomial pieces of the
+	// two offsets; z[2s], z[2s+1] the pieces' local variables.
+	key  []uint64
+	z    []float64
+	perm []int32 // perm[sorted index] = caller's index
 	bandAt []int     // points of band b are sorted indices bandAt[b] … bandAt[b+1]−1
 
 	// avx selects the AVX2/FMA assembly kernels (where the CPU has them).
@@ -124,14 +128,14 @@ func (p *Plan) SetPoints(x, y []float64) {
 	ntile := (nf + tileWidth - 1) / tileWidth
 	nbin := p.nbands * ntile
 	scale := float64(nf) / (2 * math.Pi)
-	if cap(p.tx) < m {
-		p.tx = make([]float64, m)
-		p.ty = make([]float64, m)
+	if cap(p.key) < m {
+		p.key = make([]uint64, m)
+		p.z = make([]float64, 2*m)
 		p.perm = make([]int32, m)
 		p.sorted = make([]complex128, m)
 		p.bin = make([]int32, m)
 	}
-	p.tx, p.ty, p.perm = p.tx[:m], p.ty[:m], p.perm[:m]
+	p.key, p.z, p.perm = p.key[:m], p.z[:2*m], p.perm[:m]
 	p.sorted, p.bin = p.sorted[:m], p.bin[:m]
 	// A stable counting sort over fixed chunks: count per chunk, offsets in
 	// (bin, chunk) order, scatter per chunk. The permutation is the unique
@@ -185,11 +189,28 @@ func (p *Plan) SetPoints(x, y []float64) {
 				s := next[b]
 				next[b]++
 				p.perm[s] = int32(k)
-				p.tx[s] = wrapGrid(x[k]*scale, nf)
-				p.ty[s] = wrapGrid(y[k]*scale, nf)
+				p.setKey(s, wrapGrid(x[k]*scale, nf), wrapGrid(y[k]*scale, nf))
 			}
 		}
 	})
+}
+
+// setKey stores the kernel position and polynomial pieces of sorted point s
+// at fine-grid coordinates (tx, ty) ∈ [0, nf)².
+func (p *Plan) setKey(s int, tx, ty float64) {
+	hw := float64(p.w) / 2
+	fx := math.Ceil(tx - hw)
+	fy := math.Ceil(ty - hw)
+	jx, zx := piece(fx - tx + hw)
+	jy, zy := piece(fy - ty + hw)
+	base := (int(fy)+p.pad)*p.np + int(fx) + p.pad
+	// The kernels touch cells base … base+(w−1)·np+2⌈w/2⌉−1.
+	if base < 0 || base+(p.w-1)*p.np+p.ker.lanes/2 > len(p.padded) {
+		panic("nufft: internal error: kernel outside the padded grid")
+	}
+	p.key[s] = uint64(base)<<8 | uint64(jx)<<4 | uint64(jy)
+	p.z[2*s] = zx
+	p.z[2*s+1] = zy
 }
 
 // wrapGrid maps t to [0, nf).
