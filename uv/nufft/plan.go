@@ -46,10 +46,10 @@ type Plan struct {
 	// For sorted point s: key[s] = base<<8 | jx<<4 | jy, base the padded-grid
 	// index of the first kernel tap and jx, jy the polynomial pieces of the
 	// two offsets; z[2s], z[2s+1] the pieces' local variables.
-	key  []uint64
-	z    []float64
-	perm []int32 // perm[sorted index] = caller's index
-	bandAt []int     // points of band b are sorted indices bandAt[b] … bandAt[b+1]−1
+	key    []uint64
+	z      []float64
+	perm   []int32 // perm[sorted index] = caller's index
+	bandAt []int   // points of band b are sorted indices bandAt[b] … bandAt[b+1]−1
 
 	// avx selects the AVX2/FMA assembly kernels (where the CPU has them).
 	avx bool
