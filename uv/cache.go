@@ -294,3 +294,24 @@ func ReadCache(path, key string) (cs []*Compressed, err error) {
 	}
 	return cs, nil
 }
+
+// CompressFile returns the compressed products of the visibility table
+// name (read with OpenTable and ropt) on g, through the cache in dir; the
+// read options are part of the cache key. An empty dir compresses without a
+// cache (status CacheMiss).
+func CompressFile(dir, name string, g Grid, opt CompressOptions, ropt ReadOptions) ([]*Compressed, CacheStatus, error) {
+	open := func(name string) (ChunkReader, error) { return OpenTable(name, ropt) }
+	if dir == "" {
+		r, err := open(name)
+		if err != nil {
+			return nil, 0, err
+		}
+		defer r.(io.Closer).Close()
+		cs, err := CompressStream(r, g, opt)
+		if err != nil {
+			return nil, 0, fmt.Errorf("%s: %w", name, err)
+		}
+		return cs, CacheMiss, nil
+	}
+	return CompressCached(dir, name, g, opt, fmt.Sprintf("read %+v", ropt), open)
+}

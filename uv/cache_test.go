@@ -106,3 +106,35 @@ func TestCompressCached(t *testing.T) {
 		})
 	}
 }
+
+// CompressFile with and without a cache gives the same products, and other
+// read options are another key.
+func TestCompressFile(t *testing.T) {
+	rnd := rand.New(rand.NewPCG(1, 9))
+	dir := t.TempDir()
+	g := Grid{N: 16, Pixel: 0.3}
+	d := simDataset(rnd, 150, g, 300e9)
+	name := filepath.Join(dir, "obs.csv")
+	if err := WriteTableFile(name, false, d); err != nil {
+		t.Fatal(err)
+	}
+	plain, st, err := CompressFile("", name, g, CompressOptions{}, ReadOptions{})
+	if err != nil || st != CacheMiss {
+		t.Fatalf("no cache: %v %v", st, err)
+	}
+	cdir := filepath.Join(dir, "c")
+	cached, st, err := CompressFile(cdir, name, g, CompressOptions{}, ReadOptions{})
+	if err != nil || st != CacheMiss {
+		t.Fatalf("first cached: %v %v", st, err)
+	}
+	if _, st, _ := CompressFile(cdir, name, g, CompressOptions{}, ReadOptions{}); st != CacheHit {
+		t.Errorf("second cached: %v, want hit", st)
+	}
+	if _, st, _ := CompressFile(cdir, name, g, CompressOptions{}, ReadOptions{Meta: Meta{Dish: 7}}); st != CacheRebuilt {
+		t.Errorf("other read options: %v, want rebuilt", st)
+	}
+	img := supportImage(rnd, g, 3, 9, 2, 12)
+	if a, b := plain[0].Chi2(img), cached[0].Chi2(img); a != b {
+		t.Errorf("χ² %v without cache, %v with", a, b)
+	}
+}
