@@ -46,6 +46,10 @@ func testLens() Lens {
 		PointMass{X: 0.5, Y: -0.9, ThetaE: 0.2},
 		Shear{Gamma: 0.07, Angle: 110},
 		Sheet{KappaExt: 0.03},
+		PowerLaw{X: 0.1, ThetaE: 0.3, Q: 0.6, PA: 10, Slope: 2.3},
+		NFW{X: 0.2, KappaS: 0.05, Rs: 8, Q: 0.9, PA: 15},
+		GNFW{KappaS: 0.02, Rs: 6, Gamma: 1.37, Q: 1},
+		Burkert{Y: 0.3, KappaS: 0.02, Rs: 3, Q: 0.95, PA: -40},
 		foreign{0.01},
 		Lens{SIE{ThetaE: 0.2, Q: 1}},
 	}
@@ -154,7 +158,7 @@ func TestLensPrepare(t *testing.T) {
 }
 
 func TestLensBatchAllocs(t *testing.T) {
-	l := testLens()[:5]
+	l := testLens()[:9]
 	n := 10 * chunkSize
 	x, y, ax, ay := make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n)
 	prev := runtime.GOMAXPROCS(1)
