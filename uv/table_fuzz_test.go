@@ -120,8 +120,26 @@ func TestFastFloatAgreesWithStrconv(t *testing.T) {
 			fast++
 		}
 	}
-	if fast < 100000 {
+	if fast < 190000 {
 		t.Errorf("fast path taken for only %d of 200000 strings", fast)
+	}
+	// Random 1- to 19-digit mantissas over the whole exponent range, and
+	// hard cases: halfway points (2⁵³ + 1 rounds to even), the smallest
+	// normal and subnormal numbers, overflow, 20+ digits.
+	hard := []string{"9007199254740993", "9007199254740995", "2.2250738585072014e-308", "2.2250738585072011e-308",
+		"4.9406564584124654e-324", "1.7976931348623157e308", "1.7976931348623159e308", "1e-350", "1e400",
+		"123456789012345678901", "0.1000000000000000055511151231257827", "7.2057594037927933e16"}
+	for range 200000 {
+		m := rng.Uint64N(10_000_000_000_000_000_000)
+		m /= uint64(math.Pow10(rng.IntN(19)))
+		hard = append(hard, strconv.FormatUint(m, 10)+"e"+strconv.Itoa(rng.IntN(660)-340))
+	}
+	for _, s := range hard {
+		want, werr := strconv.ParseFloat(s, 64)
+		got, gerr := parseFloat([]byte(s))
+		if (gerr == nil) != (werr == nil) || math.Float64bits(got) != math.Float64bits(want) {
+			t.Fatalf("parseFloat(%q) = %v, %v; strconv gives %v, %v", s, got, gerr, want, werr)
+		}
 	}
 }
 
