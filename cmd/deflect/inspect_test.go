@@ -50,6 +50,28 @@ func TestInspect(t *testing.T) {
 	}
 }
 
+func TestInspectOverrides(t *testing.T) {
+	// example-sign.tsv has no dish line: --dish gives the primary beam
+	// (1.13 λ/D) and a grid; --freq overrides its 230 GHz.
+	p := filepath.Join("..", "..", "testdata", "tables", "example-sign.tsv")
+	var out, errb bytes.Buffer
+	if code := runMain([]string{"inspect", p, "--json", "--dish", "6", "--freq", "1.15e11"}, &out, &errb); code != 0 {
+		t.Fatalf("exit %d: %s", code, errb.String())
+	}
+	var sums []uv.Summary
+	if err := json.Unmarshal(out.Bytes(), &sums); err != nil {
+		t.Fatal(err)
+	}
+	s := sums[0]
+	want := 1.13 * 299792458 / 1.15e11 / 6 * uv.ArcsecPerRadian
+	if s.Dish != 6 || s.FreqMin != 1.15e11 || s.PrimaryBeam < want*(1-1e-12) || s.PrimaryBeam > want*(1+1e-12) || s.GridN == 0 {
+		t.Errorf("dish %v, freq %v, primary beam %v (want %v), grid %d", s.Dish, s.FreqMin, s.PrimaryBeam, want, s.GridN)
+	}
+	if !strings.Contains(strings.Join(s.Notes, " "), "conjugated") {
+		t.Errorf("notes %v lack the conjugation", s.Notes)
+	}
+}
+
 func TestInspectFailures(t *testing.T) {
 	dir := t.TempDir()
 	bad := filepath.Join(dir, "obs.csv")
