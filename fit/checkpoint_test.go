@@ -6,7 +6,9 @@ import (
 	"os"
 	"path/filepath"
 	"strings"
+	"syscall"
 	"testing"
+	"time"
 )
 
 func TestCheckpointErrors(t *testing.T) {
@@ -80,5 +82,20 @@ func TestCheckpointErrors(t *testing.T) {
 		if strings.Contains(e.Name(), ".tmp") {
 			t.Errorf("temporary file %s left", e.Name())
 		}
+	}
+}
+
+func TestSignalContext(t *testing.T) {
+	// SIGTERM to ourselves while SignalContext is active cancels the
+	// context instead of killing the process.
+	ctx, stop := SignalContext(context.Background())
+	defer stop()
+	if err := syscall.Kill(os.Getpid(), syscall.SIGTERM); err != nil {
+		t.Skip("cannot signal self:", err)
+	}
+	select {
+	case <-ctx.Done():
+	case <-time.After(5 * time.Second):
+		t.Fatal("context not cancelled by SIGTERM")
 	}
 }

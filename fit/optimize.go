@@ -159,6 +159,9 @@ func Optimize(ctx context.Context, p Problem, s OptimizeSettings, rnd *rand.Rand
 	if err := errors.Join(errs...); err != nil {
 		return nil, err
 	}
+	if o.nanAt != nil {
+		return nil, fmt.Errorf("fit: log-likelihood is NaN at %v", o.nanAt)
+	}
 	bi := 0
 	for i, r := range res.Runs {
 		if r.LogPost > res.Runs[bi].LogPost {
@@ -189,6 +192,8 @@ type optimizer struct {
 	maxEval       int
 	centre, scale []float64
 	evals         atomic.Int64
+	nanOnce       sync.Once
+	nanAt         []float64
 }
 
 // theta maps scaled coordinates y to parameters.
@@ -207,8 +212,9 @@ func (o *optimizer) negLogPost(y []float64) float64 {
 		o.evals.Add(1)
 	}
 	if math.IsNaN(ll) {
-		// NaN would abort gonum's methods; treat it as a wall, the
-		// result keeps the best finite point.
+		// Remember the first NaN for the error Optimize returns, and
+		// let the minimisers see a wall meanwhile.
+		o.nanOnce.Do(func() { o.nanAt = th })
 		return math.Inf(1)
 	}
 	return -lp

@@ -179,6 +179,16 @@ func TestOptimizeBoundaryAndDeterminism(t *testing.T) {
 		t.Errorf("evaluations %d vs %d, %d runs", a.Evaluations, b.Evaluations, len(a.Runs))
 	}
 
+	nan := Problem{Dim: 1, Prior: Priors{Uniform{Min: -1, Max: 1}}, LogLike: func(x []float64) float64 {
+		if x[0] > 0.5 {
+			return math.NaN()
+		}
+		return x[0]
+	}}
+	if _, err := Optimize(context.Background(), nan, OptimizeSettings{}, rand.New(rand.NewPCG(1, 1))); err == nil {
+		t.Error("NaN log-likelihood not reported")
+	}
+
 	ctx, cancel := context.WithCancel(context.Background())
 	cancel()
 	r, err := Optimize(ctx, g.problem(g.box(5, 1)), OptimizeSettings{}, rand.New(rand.NewPCG(1, 1)))
