@@ -96,7 +96,7 @@ type grid struct {
 	h      float64 // finest spacing
 	depth  int
 	n0     int // base cells per side
-	det    map[uint64]float64
+	det    blockCache[float64]
 	stride int       // finest cells per coarse step
 	nc     int       // coarse points per side
 	cdet   []float64 // det A on the coarse lattice, index a·nc + b
@@ -193,14 +193,48 @@ func (g *grid) at(i, j int) float64 {
 	if i%g.stride == 0 && j%g.stride == 0 {
 		return g.cdet[(i/g.stride)*g.nc+j/g.stride]
 	}
-	k := latticeKey(i, j)
-	if d, ok := g.det[k]; ok {
-		return d
+	return g.det.get(i, j, func() float64 {
+		x, y := g.pos(i, j)
+		return detA(g.m, x, y)
+	})
+}
+
+// blockCache memoises values on lattice vertices in 8×8 blocks, found
+// through a map; a search touches vertices in runs, so most look-ups hit
+// the last block used.
+type blockCache[T any] struct {
+	blocks  map[uint64]*cacheBlock[T]
+	lastKey uint64
+	last    *cacheBlock[T]
+}
+
+type cacheBlock[T any] struct {
+	v   [64]T
+	set uint64 // bit k set when v[k] holds a value
+}
+
+func (c *blockCache[T]) get(i, j int, f func() T) T {
+	key := latticeKey(i>>3, j>>3)
+	b := c.last
+	if b == nil || key != c.lastKey {
+		if c.blocks == nil {
+			c.blocks = make(map[uint64]*cacheBlock[T])
+		}
+		b = c.blocks[key]
+		if b == nil {
+			b = new(cacheBlock[T])
+			c.blocks[key] = b
+		}
+		c.last, c.lastKey = b, key
 	}
-	x, y := g.pos(i, j)
-	d := detA(g.m, x, y)
-	g.det[k] = d
-	return d
+	k := (i&7)<<3 | j&7
+	if b.set&(1<<k) != 0 {
+		return b.v[k]
+	}
+	v := f()
+	b.v[k] = v
+	b.set |= 1 << k
+	return v
 }
 
 // walk visits the cells of an adaptive quadtree over the lattice, calling
@@ -348,9 +382,8 @@ func (s curveSettings) newGrid(m, fast Mass, withBeta bool) *grid {
 	h := 2 * s.half / float64(s.grid<<s.depth)
 	g := &grid{
 		m: m, h: h, depth: s.depth, n0: s.grid,
-		x0:  s.cx - s.half + 0.2718281828*h,
-		y0:  s.cy - s.half + 0.3141592654*h,
-		det: make(map[uint64]float64, 1024),
+		x0: s.cx - s.half + 0.2718281828*h,
+		y0: s.cy - s.half + 0.3141592654*h,
 	}
 	g.fillCoarse(withBeta)
 	g.m = fast

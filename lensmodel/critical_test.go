@@ -323,13 +323,27 @@ func benchLens() Lens {
 	return Lens{SIE{ThetaE: 1.2, Q: 0.75, PA: 30}, Shear{Gamma: 0.06, Angle: -20}}
 }
 
+// benchGroup is three galaxies (one cored), an NFW group halo and shear.
+func benchGroup() Lens {
+	return Lens{
+		SIE{X: 0.3, Y: 0.2, ThetaE: 0.8, Q: 0.7, PA: 30, Core: 0.02},
+		SIE{X: -0.9, Y: 0.5, ThetaE: 0.4, Q: 0.8, PA: -20},
+		SIE{X: 0.5, Y: -1.1, ThetaE: 0.3, Q: 0.9},
+		NFW{KappaS: 0.25, Rs: 8, Q: 1},
+		Shear{Gamma: 0.04, Angle: 60},
+	}
+}
+
 func BenchmarkCriticalCurves(b *testing.B) {
-	m := benchLens()
-	for _, depth := range []int{4, 6} {
-		b.Run(fmt.Sprintf("depth=%d", depth), func(b *testing.B) {
+	for _, tc := range []struct {
+		name  string
+		m     Lens
+		depth int
+	}{{"SIE+shear/depth=4", benchLens(), 4}, {"SIE+shear/depth=5", benchLens(), 5}, {"SIE+shear/depth=6", benchLens(), 6}, {"group/depth=5", benchGroup(), 5}} {
+		b.Run(tc.name, func(b *testing.B) {
 			b.ReportAllocs()
 			for b.Loop() {
-				if _, err := CriticalCurves(m, CurveOptions{Depth: depth}); err != nil {
+				if _, err := CriticalCurves(tc.m, CurveOptions{Depth: tc.depth}); err != nil {
 					b.Fatal(err)
 				}
 			}

@@ -218,20 +218,18 @@ func FindImages(m Mass, bx, by float64, opt ImageOptions) (*ImageResult, error) 
 	}
 	g := s.curve.newGrid(m, fast, true)
 	m = fast
-	beta := make(map[uint64][2]float64, 1024)
+	var beta blockCache[[2]float64]
 	mapped := func(i, j int) (float64, float64) {
 		if i%g.stride == 0 && j%g.stride == 0 {
 			k := (i/g.stride)*g.nc + j/g.stride
 			return g.cbx[k], g.cby[k]
 		}
-		k := latticeKey(i, j)
-		if b, ok := beta[k]; ok {
-			return b[0], b[1]
-		}
-		x, y := g.pos(i, j)
-		ax, ay := m.Deflect(x, y)
-		beta[k] = [2]float64{x - ax, y - ay}
-		return x - ax, y - ay
+		b := beta.get(i, j, func() [2]float64 {
+			x, y := g.pos(i, j)
+			ax, ay := m.Deflect(x, y)
+			return [2]float64{x - ax, y - ay}
+		})
+		return b[0], b[1]
 	}
 	f := finder{m: m, bx: bx, by: by, tol: s.tol, scale: s.curve.half}
 	err = g.walk(s.curve.maxCells, func(i, j, size int) bool {

@@ -269,15 +269,15 @@ func TestFindImagesErrors(t *testing.T) {
 }
 
 func BenchmarkFindImages(b *testing.B) {
-	m := benchLens()
-	for _, src := range []struct {
+	for _, tc := range []struct {
 		name   string
+		m      Lens
 		bx, by float64
-	}{{"quad", 0.05, 0.02}, {"double", 0.5, 0.3}} {
-		b.Run(src.name, func(b *testing.B) {
+	}{{"SIE+shear/quad", benchLens(), 0.05, 0.02}, {"SIE+shear/double", benchLens(), 0.5, 0.3}, {"group", benchGroup(), 0.2, 0.1}} {
+		b.Run(tc.name, func(b *testing.B) {
 			b.ReportAllocs()
 			for b.Loop() {
-				if _, err := FindImages(m, src.bx, src.by, ImageOptions{}); err != nil {
+				if _, err := FindImages(tc.m, tc.bx, tc.by, ImageOptions{}); err != nil {
 					b.Fatal(err)
 				}
 			}
