@@ -335,30 +335,49 @@ func (p *Plan) wrapToPadded() {
 			r := ((q-pad)%nf + nf) % nf
 			src := p.fine[r*nf : r*nf+nf]
 			dst := p.padded[q*np : q*np+np]
-			for c := range dst {
-				dst[c] = src[((c-pad)%nf+nf)%nf]
+			if pad > nf { // tiny grids: the kernel wraps more than once
+				for c := range dst {
+					dst[c] = src[((c-pad)%nf+nf)%nf]
+				}
+				continue
 			}
+			copy(dst[:pad], src[nf-pad:])
+			copy(dst[pad:pad+nf], src)
+			copy(dst[pad+nf:], src[:pad])
 		}
 	})
 }
 
 // foldPadded adds the padded grid periodically into the fine grid, in a fixed
-// order of padded rows for every fine-grid row.
+// order (padded rows ascending, then columns ascending) for every value.
 func (p *Plan) foldPadded() {
 	nf, np, pad := p.nf, p.np, p.pad
 	clear(p.fine)
 	// Padded rows q ≡ r + pad (mod nf) land on fine row r; each worker owns a
-	// range of fine rows and visits its padded rows in increasing q.
+	// range of fine rows.
 	parallelRange(nf, func(_, lo, hi int) {
 		for r := lo; r < hi; r++ {
 			dst := p.fine[r*nf : r*nf+nf]
 			for q := (r + pad) % nf; q < np; q += nf {
 				src := p.padded[q*np : q*np+np]
-				for c, v := range src {
-					cc := ((c-pad)%nf + nf) % nf
-					dst[cc] += v
+				if pad > nf {
+					for c, v := range src {
+						dst[((c-pad)%nf+nf)%nf] += v
+					}
+					continue
 				}
+				addTo(dst[nf-pad:], src[:pad])
+				addTo(dst, src[pad:pad+nf])
+				addTo(dst[:pad], src[pad+nf:])
 			}
 		}
 	})
+}
+
+// addTo adds src to dst element by element; len(dst) ≥ len(src).
+func addTo(dst, src []complex128) {
+	dst = dst[:len(src)]
+	for i, v := range src {
+		dst[i] += v
+	}
 }

@@ -160,6 +160,13 @@ func TestDeterministic(t *testing.T) {
 		t.Fatal(err)
 	}
 	p.SetPoints(x, y)
+	for _, avx := range []bool{haveAVX, false} {
+		p.avx = avx
+		testDeterministic(t, p, f, c, x, y)
+	}
+}
+
+func testDeterministic(t *testing.T, p *Plan, f, c []complex128, x, y []float64) {
 	a2 := p.Type2(nil, f, -1)
 	a1 := p.Type1(nil, c, 1)
 	for _, procs := range []int{1, 3, 8} {
