@@ -54,6 +54,15 @@ func TestGNFWLineOfSight(t *testing.T) {
 	checkClose(t, "GNFW γ=0 κ(0)", GNFW{KappaS: 0.3, Rs: 2, Q: 1}.Kappa(0, 0), 0.3, 0, 1e-7)
 	b := Burkert{KappaS: 0.3, Rs: 2, Q: 1}
 	checkClose(t, "Burkert κ(0)", b.Kappa(0, 0), 0.3*math.Pi/2, 0, 1e-7)
+	// At the centre of an elliptical core the Hessian is κ̄(0) diag(1 − ε,
+	// 1 + ε) in the axes frame (ψ ≈ κ̄(0) R²/2), here with the major axis
+	// east–west (PA = 90°): ψ_xx = κ(0)(1 − ε), ψ_yy = κ(0)(1 + ε).
+	be := Burkert{KappaS: 0.3, Rs: 2, Q: 0.9, PA: 90}
+	eps := (1 - 0.81) / (1 + 0.81)
+	hxx, hxy, hyy := be.Hessian(0, 0)
+	checkClose(t, "elliptical core ψ_xx", hxx, 0.3*math.Pi/2*(1-eps), 0, 1e-7)
+	checkClose(t, "elliptical core ψ_xy", hxy, 0, 1e-12, 0)
+	checkClose(t, "elliptical core ψ_yy", hyy, 0.3*math.Pi/2*(1+eps), 0, 1e-7)
 	rho := func(r float64) float64 { return 1 / ((1 + r) * (1 + r*r)) }
 	for _, x := range []float64{1e-3, 0.2, 1, 5, 80} {
 		checkClose(t, "Burkert κ", b.Kappa(x*b.Rs, 0), 0.3*directKappa(rho, x), 0, 1e-7)

@@ -25,24 +25,27 @@ func (e *tabEval) deflect(x, y float64) (ax, ay float64) {
 	return e.g.deflect(xp, yp, e.ks*kbar)
 }
 
-func (e *tabEval) kappa(x, y float64) float64 {
-	xp, yp, r := e.g.radius(x, y)
+// radius returns the local coordinates and elliptical radius of (x, y); at
+// the centre itself, those of a point 1e-9 r_s from it along the major axis,
+// where κ and the Hessian take their central values (a core's, or a large
+// finite value for a cusp) to within the profile's change over 1e-9 r_s.
+func (e *tabEval) radius(x, y float64) (xp, yp, r float64) {
+	xp, yp, r = e.g.radius(x, y)
 	if r == 0 {
-		// The central value: finite for cores, the limit of the table's
-		// inner power law otherwise.
 		r = radialXMin * 1e-3 / e.invRs
 		xp, yp = r/math.Sqrt(e.g.a1), 0
 	}
+	return xp, yp, r
+}
+
+func (e *tabEval) kappa(x, y float64) float64 {
+	xp, yp, r := e.radius(x, y)
 	kbar, k := e.t.eval(r * e.invRs)
 	return e.g.kappa(xp, yp, r, e.ks*kbar, e.ks*k)
 }
 
 func (e *tabEval) hessian(x, y float64) (hxx, hxy, hyy float64) {
-	xp, yp, r := e.g.radius(x, y)
-	if r == 0 {
-		k := e.kappa(x, y)
-		return k, 0, k
-	}
+	xp, yp, r := e.radius(x, y)
 	kbar, k := e.t.eval(r * e.invRs)
 	return e.g.hessian(xp, yp, r, e.ks*kbar, e.ks*k)
 }
