@@ -271,6 +271,7 @@ func TestErrors(t *testing.T) {
 		{"antenna too large", "u,v,re,im,weight,ant2\n1,2,3,4,5,40000\n", ErrInteger, `obs.csv:2: column "ant2": "40000" is not an integer from 0 to 32767`},
 		{"negative channel", "u,v,re,im,weight,chan\n1,2,3,4,5,-1\n", ErrInteger, `obs.csv:2: column "chan": "-1" is not an integer from 0 to 2147483647`},
 		{"bad flag", "u,v,re,im,weight,flag\n1,2,3,4,5,yes\n", ErrFlagValue, `obs.csv:2: column "flag": "yes" is not 0, 1, true or false`},
+		{"no header", "1,2,3,4,5\n", ErrMissingColumn, `obs.csv:1: no header: the first line that is not a comment must name the columns (u, v, re, im, weight, …), this one holds numbers`},
 		{"empty file", "", ErrEmpty, `obs.csv: empty file: no header line`},
 		{"only comments", "# label: x\n\n# nothing else\n", ErrEmpty, `obs.csv: empty file: no header line`},
 		{"binary NUL", "u,v\x00\x01\x02,re\n", ErrBinary, `obs.csv:1: binary data, not a text table`},

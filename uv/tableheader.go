@@ -188,6 +188,16 @@ func newLayout(file string, lineNo int, names []string, delim byte, freqKnown bo
 			wNamed = strings.ToLower(name)
 		}
 	}
+	numeric := len(names) > 0
+	for _, n := range names {
+		if _, err := strconv.ParseFloat(n, 64); err != nil {
+			numeric = false
+			break
+		}
+	}
+	if numeric {
+		return nil, perr("", cause(ErrMissingColumn, "no header: the first line that is not a comment must name the columns (u, v, re, im, weight, …), this one holds numbers"))
+	}
 	switch {
 	case !l.has(roleU):
 		return nil, perr("", cause(ErrMissingColumn, `missing column "u" (or "u_m", "u_klambda")`))

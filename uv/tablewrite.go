@@ -18,8 +18,8 @@ import (
 // to the same float64, so WriteTable followed by a read returns d exactly.
 // The sign line is always −1, the convention a Dataset holds.
 func WriteTable(w io.Writer, d *Dataset) error {
-	if strings.ContainsAny(d.Meta.Label, "\r\n") {
-		return errors.New("uv: label contains a line break")
+	if hasControl([]byte(d.Meta.Label)) {
+		return errors.New("uv: label contains control characters")
 	}
 	bw := bufio.NewWriterSize(w, 1<<16)
 	m := d.Meta
