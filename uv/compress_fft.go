@@ -19,8 +19,10 @@ import (
 //     29, 563: the decimation-in-frequency form.
 type fftPow2 struct {
 	n   int
-	rev []int32      // bit reversal of 0 … n−1
-	tw  []complex128 // tw[k] = exp(−2πi k/n), k < n/2
+	rev []int32 // bit reversal of 0 … n−1
+	// tw[h−1+k] = exp(−πi k/h), k < h, for the stage of half-length h:
+	// each stage's twiddles are contiguous.
+	tw []complex128
 }
 
 func newFFTPow2(n int) *fftPow2 {
@@ -28,13 +30,15 @@ func newFFTPow2(n int) *fftPow2 {
 		panic("uv: FFT length is not a power of two ≥ 2")
 	}
 	lg := bits.TrailingZeros(uint(n))
-	f := &fftPow2{n: n, rev: make([]int32, n), tw: make([]complex128, n/2)}
+	f := &fftPow2{n: n, rev: make([]int32, n), tw: make([]complex128, n-1)}
 	for i := range n {
 		f.rev[i] = int32(bits.Reverse(uint(i)) >> (bits.UintSize - lg))
 	}
-	for k := range f.tw {
-		s, c := math.Sincos(-2 * math.Pi * float64(k) / float64(n))
-		f.tw[k] = complex(c, s)
+	for h := 1; h < n; h *= 2 {
+		for k := range h {
+			s, c := math.Sincos(-math.Pi * float64(k) / float64(h))
+			f.tw[h-1+k] = complex(c, s)
+		}
 	}
 	return f
 }
@@ -57,23 +61,33 @@ func (f *fftPow2) forward(x []complex128, half bool) {
 	h := n / 2
 	if half {
 		lo, hi := x[:h], x[h:n]
-		for k, w := range f.tw {
+		tw := f.tw[h-1 : 2*h-1]
+		for k, w := range tw {
 			a := lo[k]
 			hi[k] = complex(real(a)*real(w)-imag(a)*imag(w), real(a)*imag(w)+imag(a)*real(w))
 		}
 		h /= 2
 	}
-	for ; h >= 1; h /= 2 {
-		step := n / (2 * h)
+	for ; h >= 2; h /= 2 {
+		tw := f.tw[h-1 : 2*h-1]
 		for s := 0; s < n; s += 2 * h {
 			lo, hi := x[s:s+h], x[s+h:s+2*h]
+			hi = hi[:len(lo)]
+			tw := tw[:len(lo)]
 			for k := range lo {
-				w := f.tw[k*step]
+				w := tw[k]
 				a, b := lo[k], hi[k]
 				dr, di := real(a)-real(b), imag(a)-imag(b)
 				lo[k] = complex(real(a)+real(b), imag(a)+imag(b))
 				hi[k] = complex(dr*real(w)-di*imag(w), dr*imag(w)+di*real(w))
 			}
+		}
+	}
+	if h == 1 {
+		// The last stage has unit twiddles.
+		for s := 0; s+1 < n; s += 2 {
+			a, b := x[s], x[s+1]
+			x[s], x[s+1] = a+b, a-b
 		}
 	}
 }
@@ -83,12 +97,19 @@ func (f *fftPow2) forward(x []complex128, half bool) {
 func (f *fftPow2) inverse(x []complex128) {
 	n := f.n
 	x = x[:n]
-	for h := 1; h < n; h *= 2 {
-		step := n / (2 * h)
+	// The first stage has unit twiddles.
+	for s := 0; s+1 < n; s += 2 {
+		a, b := x[s], x[s+1]
+		x[s], x[s+1] = a+b, a-b
+	}
+	for h := 2; h < n; h *= 2 {
+		tw := f.tw[h-1 : 2*h-1]
 		for s := 0; s < n; s += 2 * h {
 			lo, hi := x[s:s+h], x[s+h:s+2*h]
+			hi = hi[:len(lo)]
+			tw := tw[:len(lo)]
 			for k := range lo {
-				w := f.tw[k*step]
+				w := tw[k]
 				wr, wi := real(w), -imag(w)
 				b := hi[k]
 				br, bi := real(b)*wr-imag(b)*wi, real(b)*wi+imag(b)*wr
