@@ -88,6 +88,7 @@ type EnsembleResult struct {
 	BurnIn, Thin int
 	// Samples are the positions after burn-in, every Thin-th step, all
 	// walkers, flattened: Samples[i][dim]; SampleLogLike their ln L.
+	// The sample slices share memory with Chain.
 	Samples       [][]float64
 	SampleLogLike []float64
 	// Best is the position of largest ln L + ln π met, BestLogPost and
