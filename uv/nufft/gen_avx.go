@@ -87,7 +87,6 @@ func kernel(b *bytes.Buffer, w int, spread bool) {
 	name := fmt.Sprintf("interpLoopW%d", w)
 	if spread {
 		name = fmt.Sprintf("spreadLoopW%d", w)
-		frame = 3 * nv * 32
 	}
 	p := func(format string, a ...any) { fmt.Fprintf(b, "\t"+format+"\n", a...) }
 	flag := "NOSPLIT"
@@ -205,24 +204,22 @@ func kernel(b *bytes.Buffer, w int, spread bool) {
 		p("VADDPD X1, X0, X0")
 		p("VMOVUPD X0, 0(R12)")
 	} else {
-		// u_a = v·ψx[a] as [re, im] pairs; each grid cell is then updated
-		// with its own 16-byte load and store, so that a later point's load
-		// of the same cell is forwarded from the store exactly (32-byte
-		// accesses at 16-byte offsets defeat store forwarding).
+		// u_a = v·ψx[a] as [re, im] pairs, two taps per register; the grid
+		// is updated two cells at a time (for odd w the last register adds
+		// zero to the cell after the kernel, which lies inside the padding
+		// and in the same rows, so no other goroutine touches it).
 		p("VBROADCASTF128 0(R12), Y14")
 		for v := range nv {
 			p("VMULPD %d(SP), Y14, Y%d", 32*v, v)
 		}
-		for v := range nv {
-			p("VMOVUPD Y%d, %d(SP)", v, 32*(2*nv+v))
-		}
+		ntmp := 14 - nv
 		for row := range w {
 			p("VBROADCASTSD %d(SP), Y15", 32*nv+16*row)
-			for a := range w {
-				t := a % 14
-				p("VMOVUPD %d(AX), X%d", 16*a, t)
-				p("VFMADD231PD %d(SP), X15, X%d", 32*2*nv+16*a, t)
-				p("VMOVUPD X%d, %d(AX)", t, 16*a)
+			for v := range nv {
+				t := nv + v%ntmp
+				p("VMOVUPD %d(AX), Y%d", 32*v, t)
+				p("VFMADD231PD Y%d, Y15, Y%d", v, t)
+				p("VMOVUPD Y%d, %d(AX)", t, 32*v)
 			}
 			if row < w-1 {
 				p("ADDQ DX, AX")
