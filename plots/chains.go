@@ -83,11 +83,7 @@ func TraceFigure(ch Chain) (*Figure, error) {
 		c.A = alpha
 		ls := draw.LineStyle{Color: premultiplied(c), Width: 0.4}
 		for w := range walkers {
-			l, err := newLine(traceVertices(ch.Samples[w], k, stride), ls)
-			if err != nil {
-				return nil, err
-			}
-			p.Add(l)
+			p.Add(chunkedLine{xy: traceVertices(ch.Samples[w], k, stride), ls: ls})
 		}
 		p.X.Min, p.X.Max = 0, float64(steps-1)
 		if k != np-1 {
@@ -130,6 +126,34 @@ func traceVertices(walker [][]float64, k, stride int) plotter.XYs {
 		}
 	}
 	return xy
+}
+
+// chunkedLine strokes a long, solid polyline in pieces of 64 segments:
+// the rasterizer's cost grows with the cells a single path covers per
+// scan line, so a jagged trace drawn in one stroke costs far more than the
+// same trace in short pieces.
+type chunkedLine struct {
+	xy plotter.XYs
+	ls draw.LineStyle
+}
+
+const chunkSegments = 64
+
+func (l chunkedLine) Plot(c draw.Canvas, p *plot.Plot) {
+	trX, trY := p.Transforms(&c)
+	pts := make([]vg.Point, len(l.xy))
+	for k, q := range l.xy {
+		pts[k] = vg.Point{X: trX(q.X), Y: trY(q.Y)}
+	}
+	for a := 0; a < len(pts)-1; a += chunkSegments {
+		b := min(len(pts), a+chunkSegments+1)
+		c.StrokeLines(l.ls, c.ClipLinesXY(pts[a:b])...)
+	}
+}
+
+// DataRange implements plot.DataRanger.
+func (l chunkedLine) DataRange() (xmin, xmax, ymin, ymax float64) {
+	return plotter.XYRange(l.xy)
 }
 
 // premultiplied converts non-premultiplied colour to color.RGBA.

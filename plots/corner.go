@@ -133,7 +133,7 @@ func CornerFigure(post Posterior) (*Figure, error) {
 					if lv[m] > 0 {
 						ct := plotter.NewContour(h2, []float64{lv[m]}, nil)
 						ct.LineStyles = []draw.LineStyle{ls}
-						p.Add(ct)
+						p.Add(bareContour{ct})
 					}
 				}
 				vx, okx := mk(c)

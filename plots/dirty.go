@@ -126,7 +126,7 @@ func addSigmaContours(p *plot.Plot, v skyView, sigma float64) {
 	if pos := sigmaLevels(hi); len(pos) > 0 {
 		c := plotter.NewContour(g, pos, nil)
 		c.LineStyles = []draw.LineStyle{{Color: black, Width: axisWidth}}
-		p.Add(c)
+		p.Add(bareContour{c})
 	}
 	if neg := sigmaLevels(-lo); len(neg) > 0 {
 		for k := range neg {
@@ -134,7 +134,7 @@ func addSigmaContours(p *plot.Plot, v skyView, sigma float64) {
 		}
 		c := plotter.NewContour(g, neg, nil)
 		c.LineStyles = []draw.LineStyle{{Color: black, Width: axisWidth, Dashes: dashed}}
-		p.Add(c)
+		p.Add(bareContour{c})
 	}
 }
 

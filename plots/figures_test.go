@@ -261,6 +261,7 @@ func BenchmarkFigures(b *testing.B) {
 				b.ReportAllocs()
 				var buf bytes.Buffer
 				draw := c.prepare(n)
+				c0 := cpuTime()
 				for b.Loop() {
 					f, err := draw()
 					if err != nil {
@@ -271,6 +272,7 @@ func BenchmarkFigures(b *testing.B) {
 						b.Fatal(err)
 					}
 				}
+				b.ReportMetric(float64(cpuTime()-c0)/1e6/float64(b.N), "cpu-ms/op")
 			})
 		}
 	}

@@ -322,3 +322,10 @@ func newLine(xy plotter.XYs, ls draw.LineStyle) (bareLine, error) {
 	l.LineStyle = ls
 	return bareLine{l}, nil
 }
+
+// bareContour is a plotter.Contour without glyph boxes (it reports one per
+// grid cell, which makes layout slow at 256² and adds nothing: contours lie
+// inside the data range).
+type bareContour struct{ *plotter.Contour }
+
+func (bareContour) GlyphBoxes(*plot.Plot) []plot.GlyphBox { return nil }
