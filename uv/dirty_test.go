@@ -237,3 +237,35 @@ func TestCleanBeamGaussianCoverage(t *testing.T) {
 		t.Errorf("clean beam %+v, want BMaj %.4f BMin %.4f BPA 35", cb, fw(s1), fw(s2))
 	}
 }
+
+// The compressed D divided by Σ w is the natural-weighting dirty image, and
+// B(0, Δ)/Σ w the dirty beam (two independent code paths, to 1e-8).
+func TestDirtyMatchesCompressed(t *testing.T) {
+	rnd := rand.New(rand.NewPCG(1, 5))
+	g := Grid{N: 32, Pixel: 0.3, X0: -0.6, Y0: 0.9}
+	d := simDataset(rnd, 700, g, 300e9)
+	for k := range d.U {
+		d.U[k] *= 0.2
+		d.V[k] *= 0.2
+	}
+	di, err := MakeDirty(d, g, ImagingOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	cs, err := Compress(d, g, CompressOptions{MaxFracBandwidth: -1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	c := cs[0]
+	sw := c.SumWeights()
+	for j := range g.N {
+		for i := range g.N {
+			if v := c.DirtyAt(i, j) / sw; math.Abs(v-di.Image[j*g.N+i]) > 1e-8 {
+				t.Fatalf("D(%d,%d)/Σw = %v, dirty image %v", i, j, v, di.Image[j*g.N+i])
+			}
+			if v := c.BeamAt(i-g.N/2, j-g.N/2) / sw; math.Abs(v-di.Beam[j*g.N+i]) > 1e-8 {
+				t.Fatalf("B(%d,%d)/Σw = %v, dirty beam %v", i-g.N/2, j-g.N/2, v, di.Beam[j*g.N+i])
+			}
+		}
+	}
+}
