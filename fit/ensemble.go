@@ -25,7 +25,8 @@ type EnsembleSettings struct {
 	Stretch float64
 
 	// MaxSteps caps the chain length; zero means 20000. A run stopped
-	// by the cap has status NotConverged.
+	// by the cap has status NotConverged; resuming its checkpoint with a
+	// larger MaxSteps continues it.
 	MaxSteps int
 	// TauFactor is the convergence criterion: the run stops when the
 	// chain is longer than TauFactor times the largest integrated
@@ -255,6 +256,11 @@ func Ensemble(ctx context.Context, p Problem, s EnsembleSettings) (*EnsembleResu
 		}
 		if err := e.restoreRNG(); err != nil {
 			return nil, err
+		}
+		// A run stopped at its cap continues when resumed with a
+		// larger MaxSteps.
+		if e.st.Done && e.st.Status == NotConverged && e.st.Step < cfg.maxSteps {
+			e.st.Done = false
 		}
 	} else if err := e.init(); err != nil {
 		return nil, err

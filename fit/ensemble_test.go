@@ -151,13 +151,28 @@ func TestEnsembleResumeBitForBit(t *testing.T) {
 func TestEnsembleCapAndErrors(t *testing.T) {
 	rnd := rand.New(rand.NewPCG(1, 4))
 	g := newGaussian(2, rnd, false)
-	r, err := Ensemble(context.Background(), g.problem(g.box(5, 0)), EnsembleSettings{Seed: 1, MaxSteps: 40})
+	path := filepath.Join(t.TempDir(), "cap.ckpt")
+	r, err := Ensemble(context.Background(), g.problem(g.box(5, 0)), EnsembleSettings{Seed: 1, MaxSteps: 40, Checkpoint: Checkpoint{Path: path}})
 	if err != nil {
 		t.Fatal(err)
 	}
 	if r.Status != NotConverged || r.Steps != 40 {
 		t.Errorf("status %v after %d steps, want not converged at the cap of 40", r.Status, r.Steps)
 	}
+	// Resuming with a larger cap extends the chain, identical to a run
+	// made with that cap from the start.
+	ext, err := Ensemble(context.Background(), g.problem(g.box(5, 0)), EnsembleSettings{Seed: 1, MaxSteps: 60, Checkpoint: Checkpoint{Path: path, Resume: true}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	direct, err := Ensemble(context.Background(), g.problem(g.box(5, 0)), EnsembleSettings{Seed: 1, MaxSteps: 60})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if ext.Steps != 60 {
+		t.Errorf("extended run has %d steps, want 60", ext.Steps)
+	}
+	sameChains(t, ext.Chain, direct.Chain)
 	nan := Problem{Dim: 2, Prior: g.box(5, 0), LogLike: func(x []float64) float64 {
 		if x[0] > g.mu[0] {
 			return math.NaN()

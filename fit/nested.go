@@ -37,7 +37,8 @@ type NestedSettings struct {
 	// means 0.01.
 	Tolerance float64
 	// MaxEvaluations caps the number of likelihood calls; zero means no
-	// cap. A run stopped by the cap has status NotConverged.
+	// cap. A run stopped by the cap has status NotConverged; resuming its
+	// checkpoint with a larger cap continues it.
 	MaxEvaluations int
 
 	// Checkpoint configures checkpoints and resuming.
@@ -260,6 +261,11 @@ func Nested(ctx context.Context, p Problem, s NestedSettings) (*NestedResult, er
 			return nil, errors.New("fit: resume: checkpoint live-point count does not match")
 		}
 		ns.rnd = rand.New(ns.pcg)
+		// A run stopped at its cap continues when resumed with a
+		// larger (or no) MaxEvaluations.
+		if ns.st.Done && ns.st.Status == NotConverged && (cfg.maxEvals == 0 || ns.st.Evaluations < cfg.maxEvals) {
+			ns.st.Done = false
+		}
 	} else if err := ns.init(); err != nil {
 		return nil, err
 	}
