@@ -74,7 +74,10 @@ type Accumulator struct {
 	meta   Meta
 	seen   bool
 	groups map[int]*groupAcc
-	plan   *nufft.Plan
+	// pending counts the buffered rows of all groups; past 2·BatchRows
+	// every group is flushed, so memory stays bounded with many groups.
+	pending int
+	plan    *nufft.Plan
 	bufX   []float64
 	bufY   []float64
 	cD, cB []complex128
@@ -173,8 +176,14 @@ func (a *Accumulator) Add(d *Dataset) error {
 		g.v = append(g.v, d.V[k])
 		g.w = append(g.w, w)
 		g.d = append(g.d, complex(re, im))
+		a.pending++
 		if len(g.u) >= a.opt.BatchRows {
 			a.flush(g)
+		}
+		if a.pending >= 2*a.opt.BatchRows {
+			for _, g := range a.groups {
+				a.flush(g)
+			}
 		}
 	}
 	return nil
@@ -186,6 +195,7 @@ func (a *Accumulator) flush(g *groupAcc) {
 	if m == 0 {
 		return
 	}
+	a.pending -= m
 	n := a.grid.N
 	if cap(a.bufX) < m {
 		a.bufX, a.bufY = make([]float64, m), make([]float64, m)
