@@ -78,10 +78,10 @@ type Accumulator struct {
 	// every group is flushed, so memory stays bounded with many groups.
 	pending int
 	plan    *nufft.Plan
-	bufX   []float64
-	bufY   []float64
-	cD, cB []complex128
-	out    []complex128
+	bufX    []float64
+	bufY    []float64
+	cD, cB  []complex128
+	out     []complex128
 }
 
 type groupAcc struct {
