@@ -76,6 +76,19 @@ func BenchmarkDeflect(b *testing.B) {
 		b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(len(x)), "ns/point")
 		b.ReportMetric(float64(b.Elapsed().Milliseconds())/float64(b.N), "ms/call")
 	})
+	b.Run("composite-grid", func(b *testing.B) {
+		// The same points traced by TraceGrid, without coordinate slices.
+		const m = 256 * 4
+		bx, by := make([]float64, m*m), make([]float64, m*m)
+		l := compositeLens()
+		d := 4.0 / m
+		b.ReportAllocs()
+		for b.Loop() {
+			l.TraceGrid(bx, by, -2+d/2, -2+d/2, d, d, m, m)
+		}
+		b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(m*m), "ns/point")
+		b.ReportMetric(float64(b.Elapsed().Milliseconds())/float64(b.N), "ms/call")
+	})
 }
 
 // BenchmarkMagnification measures the Hessian-based magnification of the

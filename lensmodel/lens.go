@@ -143,6 +143,43 @@ func (l Lens) Trace(bx, by, x, y []float64) {
 	})
 }
 
+// TraceGrid stores in bx, by the source-plane positions β = θ − α(θ) in
+// arcsec of the points of a regular image-plane grid, θ = (x0 + i dx,
+// y0 + j dy) in arcsec for 0 ≤ i < nx, 0 ≤ j < ny, at index j nx + i (i
+// fastest). bx and by must have length nx·ny. It gives the values Trace gives
+// for the same coordinates, without the coordinate slices.
+func (l Lens) TraceGrid(bx, by []float64, x0, y0, dx, dy float64, nx, ny int) {
+	if nx < 0 || ny < 0 {
+		panic(fmt.Sprintf("lensmodel: TraceGrid: negative grid size %d×%d", nx, ny))
+	}
+	n := nx * ny
+	checkLengths("TraceGrid", n, len(bx), len(by))
+	evs := l.evaluators()
+	parallel(n, func(lo, hi int) {
+		buf := gridScratch.Get().(*[2][chunkSize]float64)
+		xs, ys := buf[0][:hi-lo], buf[1][:hi-lo]
+		for k := range xs {
+			j, i := (lo+k)/nx, (lo+k)%nx
+			xs[k] = x0 + float64(i)*dx
+			ys[k] = y0 + float64(j)*dy
+		}
+		dxs, dys := bx[lo:hi], by[lo:hi]
+		clear(dxs)
+		clear(dys)
+		for _, e := range evs {
+			e.addDeflect(dxs, dys, xs, ys)
+		}
+		for k := range dxs {
+			dxs[k] = xs[k] - dxs[k]
+			dys[k] = ys[k] - dys[k]
+		}
+		gridScratch.Put(buf)
+	})
+}
+
+// gridScratch holds the coordinate buffers of TraceGrid's chunks.
+var gridScratch = sync.Pool{New: func() any { return new([2][chunkSize]float64) }}
+
 // KappaPoints stores in k[i] the convergence at (x[i], y[i]) in arcsec.
 func (l Lens) KappaPoints(k, x, y []float64) {
 	checkLengths("KappaPoints", len(x), len(k), len(y))

@@ -157,6 +157,28 @@ func TestLensPrepare(t *testing.T) {
 	}
 }
 
+func TestLensTraceGrid(t *testing.T) {
+	// TraceGrid equals Trace on the explicit coordinates, bit for bit.
+	l := testLens()
+	const nx, ny = 70, 61
+	x0, y0, dx, dy := -1.7, -1.5, 0.05, 0.047
+	x, y := make([]float64, nx*ny), make([]float64, nx*ny)
+	for j := range ny {
+		for i := range nx {
+			x[j*nx+i], y[j*nx+i] = x0+float64(i)*dx, y0+float64(j)*dy
+		}
+	}
+	wx, wy := make([]float64, nx*ny), make([]float64, nx*ny)
+	l.Trace(wx, wy, x, y)
+	gx, gy := make([]float64, nx*ny), make([]float64, nx*ny)
+	l.TraceGrid(gx, gy, x0, y0, dx, dy, nx, ny)
+	for k := range gx {
+		if gx[k] != wx[k] || gy[k] != wy[k] {
+			t.Fatalf("point %d: TraceGrid (%v, %v), Trace (%v, %v)", k, gx[k], gy[k], wx[k], wy[k])
+		}
+	}
+}
+
 func TestLensBatchAllocs(t *testing.T) {
 	l := testLens()[:9]
 	n := 10 * chunkSize
