@@ -104,3 +104,24 @@ func (p *polarFinder) root(a, b, fa, fb, bx, by float64) float64 {
 	}
 	return (a + b) / 2
 }
+
+// count returns the number of images of (bx, by), wherever they lie.
+func (p *polarFinder) count(bx, by float64) int {
+	k := len(p.cos)
+	n := 0
+	gi := func(i int) float64 { return p.cos[i]*(by+p.ay[i]) - p.sin[i]*(bx+p.ax[i]) }
+	for i := range k {
+		j := (i + 1) % k
+		ga, gb := gi(i), gi(j)
+		if (ga < 0) == (gb < 0) {
+			continue
+		}
+		phi := p.root(2*math.Pi*float64(i)/float64(k), 2*math.Pi*float64(i+1)/float64(k), ga, gb, bx, by)
+		s, c := math.Sincos(phi)
+		ax, ay := p.m.Deflect(c, s)
+		if c*(bx+ax)+s*(by+ay) > 0 {
+			n++
+		}
+	}
+	return n
+}
