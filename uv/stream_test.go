@@ -2,6 +2,7 @@ package uv
 
 import (
 	"io"
+	"math"
 	"math/rand/v2"
 	"os"
 	"runtime"
@@ -112,5 +113,41 @@ func TestStreamingMemory(t *testing.T) {
 			}
 			t.Logf("%s: peak heap %.1f MB", tc.name, float64(peak)/(1<<20))
 		})
+	}
+}
+
+// With many groups and tiny batches (flushes per group and of all groups
+// at once), the products equal those of one batch per group to 1e-12.
+func TestStreamingManyGroups(t *testing.T) {
+	rnd := rand.New(rand.NewPCG(1, 6))
+	g := Grid{N: 16, Pixel: 0.3}
+	d := simDataset(rnd, 400, g, 0)
+	d.Freqs = []float64{2.00e12, 2.01e12, 2.02e12, 2.03e12, 2.04e12}
+	d.FreqIndex = make([]uint32, d.Len())
+	for k := range d.FreqIndex {
+		d.FreqIndex[k] = uint32(rnd.IntN(len(d.Freqs)))
+	}
+	a, err := Compress(d, g, CompressOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	b, err := CompressStream(d.Chunks(11), g, CompressOptions{BatchRows: 7})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(a) != 5 || len(b) != 5 {
+		t.Fatalf("%d and %d groups, want 5", len(a), len(b))
+	}
+	for gi := range a {
+		for j := range g.N {
+			for i := range g.N {
+				if x, y := a[gi].DirtyAt(i, j), b[gi].DirtyAt(i, j); math.Abs(x-y) > 1e-12*a[gi].SumWeights() {
+					t.Fatalf("group %d D(%d,%d): %v vs %v", gi, i, j, x, y)
+				}
+				if x, y := a[gi].BeamAt(i-8, j-8), b[gi].BeamAt(i-8, j-8); math.Abs(x-y) > 1e-12*a[gi].SumWeights() {
+					t.Fatalf("group %d B(%d,%d): %v vs %v", gi, i-8, j-8, x, y)
+				}
+			}
+		}
 	}
 }
