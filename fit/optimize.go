@@ -33,8 +33,8 @@ type OptimizeSettings struct {
 type OptimizeRun struct {
 	// Start is the starting point and X the optimum found from it.
 	Start, X []float64
-	// LogPost is ln L + ln π at X.
-	LogPost float64
+	// LogPost and LogLike are ln L + ln π and ln L at X.
+	LogPost, LogLike float64
 	// Evaluations counts the objective evaluations of this start: calls
 	// of LogLike, plus points outside the prior's support, where the
 	// likelihood is not called.
@@ -147,8 +147,8 @@ func Optimize(ctx context.Context, p Problem, s OptimizeSettings, rnd *rand.Rand
 		res.Runs[i], errs[i] = o.run(starts[i])
 		mu.Lock()
 		done++
-		if res.Runs[i].LogPost > best {
-			best = res.Runs[i].LogPost
+		if res.Runs[i].LogLike > best {
+			best = res.Runs[i].LogLike
 		}
 		rep.update(Report{
 			Method: "optimize", Step: done, Evaluations: int(o.evals.Load()),
@@ -169,13 +169,9 @@ func Optimize(ctx context.Context, p Problem, s OptimizeSettings, rnd *rand.Rand
 		}
 	}
 	b := res.Runs[bi]
-	res.X, res.LogPost, res.Status = slices.Clone(b.X), b.LogPost, b.Status
+	res.X, res.LogPost, res.LogLike, res.Status = slices.Clone(b.X), b.LogPost, b.LogLike, b.Status
 	if ctx.Err() != nil {
 		res.Status = Interrupted
-	}
-	if !math.IsInf(res.LogPost, -1) {
-		_, res.LogLike, _ = p.logPost(res.X)
-		o.evals.Add(1)
 	}
 	if res.Status != Interrupted && !math.IsInf(res.LogPost, -1) {
 		res.Hessian, res.Covariance, res.CovarianceErr = o.hessian(res.X)
@@ -222,7 +218,7 @@ func (o *optimizer) negLogPost(y []float64) float64 {
 
 func (o *optimizer) run(start []float64) (OptimizeRun, error) {
 	dim := o.p.Dim
-	run := OptimizeRun{Start: start, LogPost: math.Inf(-1), Status: NotConverged}
+	run := OptimizeRun{Start: start, LogPost: math.Inf(-1), LogLike: math.Inf(-1), Status: NotConverged}
 	run.X = slices.Clone(start)
 	if o.ctx.Err() != nil {
 		run.Status = Interrupted
@@ -254,6 +250,12 @@ func (o *optimizer) run(start []float64) (OptimizeRun, error) {
 	}
 	o.theta(run.X, yb)
 	run.LogPost = -fb
+	run.LogLike = math.Inf(-1)
+	if !math.IsInf(fb, 1) {
+		_, run.LogLike, _ = o.p.logPost(run.X)
+		calls.Add(1)
+		o.evals.Add(1)
+	}
 	run.Evaluations = int(calls.Load())
 	switch st {
 	case minConverged:
