@@ -115,7 +115,8 @@ func Summarize(d *Dataset, rep *ReadReport) Summary {
 	bMin, bMax := math.Inf(1), 0.0
 	fMin, fMax := math.Inf(1), 0.0
 	wMin, wMax, wSum, absW := math.Inf(1), 0.0, 0.0, 0.0
-	usedFreq := make(map[float64]bool)
+	usedFreq := make(map[float64]bool) // without a freq column: Meta.Freq only
+	usedIdx := make([]bool, len(d.Freqs))
 	used := 0
 	for k := range d.Len() {
 		if d.Flagged(k) {
@@ -128,7 +129,9 @@ func Summarize(d *Dataset, rep *ReadReport) Summary {
 			fMin, fMax = math.Min(fMin, f), math.Max(fMax, f)
 			b := math.Sqrt(q) * speedOfLight / f
 			bMin, bMax = math.Min(bMin, b), math.Max(bMax, b)
-			if d.FreqIndex == nil || len(usedFreq) < 1<<16 {
+			if d.FreqIndex != nil {
+				usedIdx[d.FreqIndex[k]] = true
+			} else {
 				usedFreq[f] = true
 			}
 		}
@@ -147,6 +150,11 @@ func Summarize(d *Dataset, rep *ReadReport) Summary {
 	s.LargestScale = 0.6 * ArcsecPerRadian / math.Sqrt(uvMin2)
 	if fMax > 0 {
 		s.FreqMin, s.FreqMax, s.NumFreqs = fMin, fMax, len(usedFreq)
+		for _, u := range usedIdx {
+			if u {
+				s.NumFreqs++
+			}
+		}
 		s.BaselineMin, s.BaselineMax = bMin, bMax
 		if s.Dish > 0 {
 			s.PrimaryBeam = NewPrimaryBeam(s.Dish, fMin).FWHM

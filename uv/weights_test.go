@@ -145,3 +145,28 @@ func TestEstimateWeightScaleTooFew(t *testing.T) {
 		t.Errorf("error %v, want ErrTooFewSamples", err)
 	}
 }
+
+func TestEstimateWeightScaleSubsamples(t *testing.T) {
+	// Above maxWeightRows rows the estimate uses whole baselines from a
+	// subset; it stays within 3% and uses about maxWeightRows rows.
+	if testing.Short() {
+		t.Skip("large dataset")
+	}
+	rng := rand.New(rand.NewPCG(4, 4))
+	d := simulatedObservation(rng, 40, 1700, 0.002, 2.5, true) // 780 baselines × 2 channels × 1700 = 2.65·10⁶ rows
+	ws, err := EstimateWeightScale(d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(ws.Factor/2.5-1) > 0.03 || ws.Samples > 2*maxWeightRows*11/10 || ws.Samples < maxWeightRows/2 {
+		t.Errorf("factor %.4f (want 2.5), %d samples", ws.Factor, ws.Samples)
+	}
+	d.Ant1, d.Ant2 = nil, nil
+	ws, err = EstimateWeightScale(d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if ws.Method != MethodImagScatter || ws.Samples > maxWeightRows*11/10 {
+		t.Errorf("imaginary scatter: %d samples, method %s", ws.Samples, ws.Method)
+	}
+}
