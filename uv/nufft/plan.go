@@ -100,8 +100,14 @@ const polyTolFactor = 20
 // N returns the grid size n.
 func (p *Plan) N() int { return p.n }
 
+// Tol returns the tolerance the plan was made for.
+func (p *Plan) Tol() float64 { return p.tol }
+
 // Width returns the kernel width w in fine-grid points.
 func (p *Plan) Width() int { return p.w }
+
+// NumPoints returns the number of points of the last SetPoints.
+func (p *Plan) NumPoints() int { return p.npts }
 
 // tileWidth is the width in fine-grid columns of the tiles points are sorted
 // into within a band.
@@ -127,7 +133,7 @@ func (p *Plan) SetPoints(x, y []float64) {
 	nf := p.nf
 	ntile := (nf + tileWidth - 1) / tileWidth
 	nbin := p.nbands * ntile
-	scale := float64(nf) / (2 * math.Pi)
+	fnf := float64(nf)
 	if cap(p.key) < m {
 		p.key = make([]uint64, m)
 		p.z = make([]float64, 2*m)
@@ -148,8 +154,8 @@ func (p *Plan) SetPoints(x, y []float64) {
 			bad[ch] = -1
 			cnt := counts[ch*nbin : (ch+1)*nbin]
 			for k := m * ch / nchunk; k < m*(ch+1)/nchunk; k++ {
-				tx := wrapGrid(x[k]*scale, nf)
-				ty := wrapGrid(y[k]*scale, nf)
+				tx := wrapTurns(x[k]) * fnf
+				ty := wrapTurns(y[k]) * fnf
 				if !(tx >= 0 && tx < float64(nf) && ty >= 0 && ty < float64(nf)) {
 					if bad[ch] < 0 {
 						bad[ch] = k
@@ -189,7 +195,7 @@ func (p *Plan) SetPoints(x, y []float64) {
 				s := next[b]
 				next[b]++
 				p.perm[s] = int32(k)
-				p.setKey(s, wrapGrid(x[k]*scale, nf), wrapGrid(y[k]*scale, nf))
+				p.setKey(s, wrapTurns(x[k])*fnf, wrapTurns(y[k])*fnf)
 			}
 		}
 	})
@@ -213,14 +219,14 @@ func (p *Plan) setKey(s int, tx, ty float64) {
 	p.z[2*s+1] = zy
 }
 
-// wrapGrid maps t to [0, nf).
-func wrapGrid(t float64, nf int) float64 {
-	f := float64(nf)
-	t -= f * math.Floor(t/f)
-	if t >= f {
-		t = 0
+// wrapTurns returns x/(2π) modulo 1, in [0, 1); NaN for a non-finite x.
+func wrapTurns(x float64) float64 {
+	u := x * (1 / (2 * math.Pi))
+	u -= math.Floor(u)
+	if u >= 1 {
+		u = 0
 	}
-	return t
+	return u
 }
 
 // Type2 evaluates the type-2 sum (grid → points) of the package comment,
