@@ -22,8 +22,10 @@ type Posterior struct {
 	// nested-sampling importance weights; they need not be normalised.
 	Weights []float64
 	// Marker, optional, marks one point in parameter space (best fit or
-	// truth); NaN entries mark nothing for that parameter.
-	Marker []float64
+	// truth); NaN entries mark nothing for that parameter. MarkerLabel
+	// names it in the key (e.g. "truth", "best fit"); empty means "marked".
+	Marker      []float64
+	MarkerLabel string
 	// Bins is the number of histogram bins per parameter; 0 means 24.
 	Bins int
 }
@@ -162,6 +164,27 @@ func CornerFigure(post Posterior) (*Figure, error) {
 	side := min(PageWidth, max(ColumnWidth, vg.Length(np)*1.25*vg.Inch))
 	f := &Figure{Width: side, Height: side}
 	f.Add(0, 0, 1, 1, grid)
+	if np > 1 {
+		key := keyPanel{entries: []keyEntry{
+			{draw.LineStyle{Color: qualitative[0], Width: lineWidth}, "68% credible region"},
+			{draw.LineStyle{Color: qualitative[0], Width: lineWidth, Dashes: dashed}, "95% credible region"},
+			{draw.LineStyle{Color: grey, Width: axisWidth, Dashes: dashed}, "median; 16%, 84% quantiles"},
+		}}
+		if post.Marker != nil {
+			lbl := post.MarkerLabel
+			if lbl == "" {
+				lbl = "marked"
+			}
+			key.entries = append(key.entries, keyEntry{markStyle, lbl})
+		}
+		// In the empty upper triangle: its top-right cell, reaching into
+		// the next one left when there is one.
+		x0 := 1 - 1/float64(np)
+		if np >= 3 {
+			x0 = 1 - 1.5/float64(np)
+		}
+		f.Add(x0, 1-0.6/float64(np), 1, 1, key)
+	}
 	return f, nil
 }
 

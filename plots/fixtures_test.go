@@ -207,7 +207,7 @@ func cornerFixture(n int) Posterior {
 	rng := rand.New(rand.NewPCG(1, 1))
 	names := []string{"θ_E (arcsec)", "q", "PA (deg)", "flux (mJy)"}
 	ns := n * 40
-	p := Posterior{Names: names, Marker: []float64{1.2, 0.7, 30, 2.5}}
+	p := Posterior{Names: names, Marker: []float64{1.2, 0.7, 30, 2.5}, MarkerLabel: "truth"}
 	for range ns {
 		a, b := rng.NormFloat64(), rng.NormFloat64()
 		x := []float64{1.2 + 0.01*a, 0.7 + 0.03*(0.8*a+0.6*b), 30 + 2*rng.NormFloat64(), 2.5 + 0.2*rng.NormFloat64()}

@@ -329,3 +329,25 @@ func newLine(xy plotter.XYs, ls draw.LineStyle) (bareLine, error) {
 type bareContour struct{ *plotter.Contour }
 
 func (bareContour) GlyphBoxes(*plot.Plot) []plot.GlyphBox { return nil }
+
+// keyPanel is a free-standing key: one short line sample and label per
+// entry, top-left aligned in its rectangle.
+type keyPanel struct {
+	entries []keyEntry
+}
+
+type keyEntry struct {
+	ls    draw.LineStyle
+	label string
+}
+
+func (k keyPanel) Draw(c draw.Canvas) {
+	sty := text.Style{Color: black, Font: fontOf(legendSize), Handler: plot.DefaultTextHandler, XAlign: draw.XLeft, YAlign: draw.YCenter}
+	x := c.Min.X + 4
+	y := c.Max.Y - 6
+	for _, e := range k.entries {
+		c.StrokeLine2(e.ls, x, y, x+14, y)
+		c.FillText(sty, vg.Point{X: x + 18, Y: y}, e.label)
+		y -= sty.Height(e.label) * 1.3
+	}
+}

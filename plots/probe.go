@@ -26,6 +26,9 @@ type Probe struct {
 	Beam  Beam
 	// At is the probed position, arcsec.
 	At Point
+	// Zoom, when set, shows only the pixels of Image whose centres lie in
+	// the box.
+	Zoom *Box
 	// Direct is the flux from the test on all the data.
 	Direct Flux
 	// Splits are the fluxes from the same test on each split of the data;
@@ -101,7 +104,10 @@ func ProbeFigure(pr Probe) (*Figure, error) {
 	f := &Figure{Width: PageWidth, Height: 2.4 * vg.Inch}
 
 	// Image.
-	v, _ := newView(pr.Image, nil)
+	v, err := newView(pr.Image, pr.Zoom)
+	if err != nil {
+		return nil, err
+	}
 	const mJy = 1e3
 	lo, hi := v.minMax(mJy)
 	ip := skyPlot(v, Viridis, lo, hi, mJy, eastLbl, nrthLbl)
