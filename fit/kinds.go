@@ -45,9 +45,12 @@ func pos(key, unit, doc string) paramDef {
 }
 
 var (
-	pX     = paramDef{key: "x", unit: "arcsec", doc: "centre, east of the phase centre", lo: -inf, hi: inf}
-	pY     = paramDef{key: "y", unit: "arcsec", doc: "centre, north of the phase centre", lo: -inf, hi: inf}
-	pQ     = paramDef{key: "q", unit: "", doc: "axis ratio b/a", def: 1, lo: 0, hi: 1, openLo: true}
+	pX = paramDef{key: "x", unit: "arcsec", doc: "centre, east of the phase centre", lo: -inf, hi: inf}
+	pY = paramDef{key: "y", unit: "arcsec", doc: "centre, north of the phase centre", lo: -inf, hi: inf}
+	pQ = paramDef{key: "q", unit: "", doc: "axis ratio b/a", def: 1, lo: 0, hi: 1, openLo: true}
+	// pQpot is the axis ratio of an elliptical lensing potential, limited
+	// so that the density stays physical (lensmodel.MaxPotentialEllipticity).
+	pQpot  = paramDef{key: "q", unit: "", doc: "axis ratio of the potential, in [0.8165, 1]", def: 1, lo: 0.8165, hi: 1}
 	pPA    = paramDef{key: "pa", unit: "deg", doc: "major-axis position angle, east of north", lo: -inf, hi: inf}
 	pAlpha = paramDef{key: "alpha", unit: "", doc: "spectral index, S ∝ ν^alpha", lo: -inf, hi: inf}
 )
@@ -62,11 +65,20 @@ var lensKinds = []kindDef{
 		pos("core", "arcsec", "core radius s (0 = singular)")}},
 	{name: "powerlaw", doc: "elliptical power-law mass distribution", params: []paramDef{
 		pX, pY, required(pos("theta_e", "arcsec", "Einstein radius")), pQ, pPA,
-		{key: "slope", doc: "3-D density slope γ (2 = isothermal)", def: 2, lo: 1, hi: 3, openLo: true}}},
+		{key: "slope", doc: "3-D density slope γ in (1, 3) (2 = isothermal)", def: 2, lo: 1.001, hi: 2.999}}},
 	{name: "nfw", doc: "NFW halo, by kappa_s and r_s or by m200 and c (needs [cosmology])", params: []paramDef{
 		pX, pY, pos("kappa_s", "", "characteristic convergence ρ_s r_s/Σ_cr"), pos("r_s", "arcsec", "scale radius"),
 		pos("m200", "Msun", "mass inside r200 (200 × critical density at z_lens)"), pos("c", "", "concentration r200/r_s"),
-		pQ, pPA}, alternatives: [][]string{{"kappa_s", "r_s"}, {"m200", "c"}}},
+		pQpot, pPA}, alternatives: [][]string{{"kappa_s", "r_s"}, {"m200", "c"}}},
+	{name: "gnfw", doc: "generalised NFW halo with free inner slope (gamma = 1: NFW, 0: cored)", params: []paramDef{
+		pX, pY, required(pos("kappa_s", "", "characteristic convergence ρ_s r_s/Σ_cr")),
+		required(paramDef{key: "r_s", unit: "arcsec", doc: "scale radius", lo: 0, hi: inf, openLo: true}),
+		{key: "gamma", doc: "inner 3-D density slope, in [0, 2)", def: 1, lo: 0, hi: 1.999},
+		pQpot, pPA}},
+	{name: "burkert", doc: "cored Burkert halo", params: []paramDef{
+		pX, pY, required(pos("kappa_s", "", "characteristic convergence ρ_0 r_0/Σ_cr")),
+		required(paramDef{key: "r_s", unit: "arcsec", doc: "core radius r_0", lo: 0, hi: inf, openLo: true}),
+		pQpot, pPA}},
 	{name: "shear", doc: "external shear", params: []paramDef{
 		required(pos("gamma", "", "shear strength")),
 		{key: "angle", unit: "deg", doc: "shear angle φ_γ, east of north: images stretch along it", lo: -inf, hi: inf},
