@@ -68,7 +68,7 @@ primary-beam FWHM (1.13 λ/D); tables without a dish diameter get a grid of
 			if err != nil {
 				return usagef("--weighting: %v", err)
 			}
-			if env.flags.Lookup("robust") != nil && isSet(env.flags, "robust") && scheme != uv.Briggs {
+			if isSet(env.flags, "robust") && scheme != uv.Briggs {
 				return usagef("--robust needs --weighting briggs")
 			}
 			if pixel < 0 || math.IsNaN(pixel) || math.IsInf(pixel, 0) {
