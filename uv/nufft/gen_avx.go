@@ -14,7 +14,7 @@ import (
 	"os"
 )
 
-const minWidth, maxWidth = 2, 16
+const minWidth, maxWidth = 2, 15
 
 const sig = "(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)"
 

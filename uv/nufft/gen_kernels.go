@@ -14,7 +14,7 @@ import (
 	"strings"
 )
 
-const minWidth, maxWidth = 2, 16
+const minWidth, maxWidth = 2, 15
 
 // pairMax is the largest width whose x and y Horner chains are interleaved.
 var pairMax = 7

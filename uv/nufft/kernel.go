@@ -9,7 +9,7 @@ import (
 // Kernel widths allowed: w = ⌈log10(1/ε)⌉ + 1 clamped to [minWidth, maxWidth].
 const (
 	minWidth = 2
-	maxWidth = 16
+	maxWidth = 15
 	maxDeg   = 24
 )
 
@@ -50,14 +50,22 @@ func widthForTol(tol float64) int {
 
 // newESKernel builds the kernel of width w with β = 2.30·w (Barnett et al.
 // 2019, §3.1.1) and fits the lowest polynomial degree whose maximum error on
-// every piece is at most polyTol (or the best reachable degree).
+// every piece is at most polyTol, or, where rounding stops the error falling
+// first (near 1e-15), the degree at which it stopped.
 func newESKernel(w int, polyTol float64) esKernel {
 	k := esKernel{w: w, beta: 2.30 * float64(w)}
+	prev := math.Inf(1)
 	for deg := 1; deg <= maxDeg; deg++ {
 		k.fit(deg)
-		if k.maxPolyError() <= polyTol {
+		e := k.maxPolyError()
+		if e <= polyTol {
 			break
 		}
+		if e > prev/2 && deg > 2 {
+			k.fit(deg - 1)
+			break
+		}
+		prev = e
 	}
 	k.lanes = 4 * ((w + 1) / 2)
 	nc := k.deg + 1

@@ -13,7 +13,7 @@ func TestWidthForTol(t *testing.T) {
 		tol  float64
 		want int
 	}{
-		{1e-3, 4}, {1e-6, 7}, {2e-7, 8}, {1e-9, 10}, {1e-12, 13}, {1e-14, 15},
+		{1e-3, 4}, {1e-6, 7}, {2e-7, 8}, {1e-9, 10}, {1e-12, 13}, {1e-14, 15}, {1e-20, 15}, {0.5, 2},
 	} {
 		if got := widthForTol(tc.tol); got != tc.want {
 			t.Errorf("widthForTol(%g) = %d, want %d", tc.tol, got, tc.want)

@@ -88,12 +88,6 @@ func interpLoopW15(grid *complex128, np int, dup *float64, pieceBytes int, deg i
 //go:noescape
 func spreadLoopW15(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
 
-//go:noescape
-func interpLoopW16(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
-
-//go:noescape
-func spreadLoopW16(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int)
-
 var interpLoop = [...]func(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int){
 	2:  interpLoopW2,
 	3:  interpLoopW3,
@@ -109,7 +103,6 @@ var interpLoop = [...]func(grid *complex128, np int, dup *float64, pieceBytes in
 	13: interpLoopW13,
 	14: interpLoopW14,
 	15: interpLoopW15,
-	16: interpLoopW16,
 }
 
 var spreadLoop = [...]func(grid *complex128, np int, dup *float64, pieceBytes int, deg int, key *uint64, z *float64, vals *complex128, count int){
@@ -127,5 +120,4 @@ var spreadLoop = [...]func(grid *complex128, np int, dup *float64, pieceBytes in
 	13: spreadLoopW13,
 	14: spreadLoopW14,
 	15: spreadLoopW15,
-	16: spreadLoopW16,
 }

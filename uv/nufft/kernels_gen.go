@@ -33,8 +33,6 @@ func (p *Plan) interpBand(lo, hi int, dst []complex128) {
 		interpW14(p, lo, hi, dst)
 	case 15:
 		interpW15(p, lo, hi, dst)
-	case 16:
-		interpW16(p, lo, hi, dst)
 	default:
 		panic("nufft: kernel width out of range")
 	}
@@ -71,8 +69,6 @@ func (p *Plan) spreadBand(lo, hi int, c []complex128) {
 		spreadW14(p, lo, hi, c)
 	case 15:
 		spreadW15(p, lo, hi, c)
-	case 16:
-		spreadW16(p, lo, hi, c)
 	default:
 		panic("nufft: kernel width out of range")
 	}
@@ -1135,94 +1131,6 @@ func spreadW15(p *Plan, lo, hi int, c []complex128) {
 			row[12] = complex(real(row[12])+br*kx[12], imag(row[12])+bim*kx[12])
 			row[13] = complex(real(row[13])+br*kx[13], imag(row[13])+bim*kx[13])
 			row[14] = complex(real(row[14])+br*kx[14], imag(row[14])+bim*kx[14])
-		}
-	}
-}
-
-// hornerW16 sets ker to the kernel weights of the 16 taps on polynomial
-// piece j at local variable z (esKernel.horner, unrolled).
-func hornerW16(k *esKernel, j int, z float64, ker *[16]float64) {
-	deg := k.deg
-	c := k.coef[j*(deg+1)*16:]
-	r := (*[16]float64)(c)
-	a0, a1, a2, a3, a4, a5, a6, a7, a8, a9, a10, a11, a12, a13, a14, a15 := r[0], r[1], r[2], r[3], r[4], r[5], r[6], r[7], r[8], r[9], r[10], r[11], r[12], r[13], r[14], r[15]
-	for d := 1; d <= deg; d++ {
-		r = (*[16]float64)(c[d*16:])
-		a0 = a0*z + r[0]
-		a1 = a1*z + r[1]
-		a2 = a2*z + r[2]
-		a3 = a3*z + r[3]
-		a4 = a4*z + r[4]
-		a5 = a5*z + r[5]
-		a6 = a6*z + r[6]
-		a7 = a7*z + r[7]
-		a8 = a8*z + r[8]
-		a9 = a9*z + r[9]
-		a10 = a10*z + r[10]
-		a11 = a11*z + r[11]
-		a12 = a12*z + r[12]
-		a13 = a13*z + r[13]
-		a14 = a14*z + r[14]
-		a15 = a15*z + r[15]
-	}
-	*ker = [16]float64{a0, a1, a2, a3, a4, a5, a6, a7, a8, a9, a10, a11, a12, a13, a14, a15}
-}
-
-// interpW16 is interpolate's loop for w = 16.
-func interpW16(p *Plan, lo, hi int, dst []complex128) {
-	out := dst[lo:hi]
-	k := &p.ker
-	g := p.padded
-	np := p.np
-	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
-	var kx, ky [16]float64
-	for s, key := range keys {
-		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
-		hornerW16(k, jx, zs[2*s], &kx)
-		hornerW16(k, jy, zs[2*s+1], &ky)
-		var sr, si float64
-		for bi, vy := range ky {
-			row := (*[16]complex128)(g[base+bi*np:])
-			sr += ((((real(row[0])*kx[0] + real(row[1])*kx[1]) + (real(row[2])*kx[2] + real(row[3])*kx[3])) + ((real(row[4])*kx[4] + real(row[5])*kx[5]) + (real(row[6])*kx[6] + real(row[7])*kx[7]))) + (((real(row[8])*kx[8] + real(row[9])*kx[9]) + (real(row[10])*kx[10] + real(row[11])*kx[11])) + ((real(row[12])*kx[12] + real(row[13])*kx[13]) + (real(row[14])*kx[14] + real(row[15])*kx[15])))) * vy
-			si += ((((imag(row[0])*kx[0] + imag(row[1])*kx[1]) + (imag(row[2])*kx[2] + imag(row[3])*kx[3])) + ((imag(row[4])*kx[4] + imag(row[5])*kx[5]) + (imag(row[6])*kx[6] + imag(row[7])*kx[7]))) + (((imag(row[8])*kx[8] + imag(row[9])*kx[9]) + (imag(row[10])*kx[10] + imag(row[11])*kx[11])) + ((imag(row[12])*kx[12] + imag(row[13])*kx[13]) + (imag(row[14])*kx[14] + imag(row[15])*kx[15])))) * vy
-		}
-		out[s] = complex(sr, si)
-	}
-}
-
-// spreadW16 is spread's loop for w = 16.
-func spreadW16(p *Plan, lo, hi int, c []complex128) {
-	cs := c[lo:hi]
-	k := &p.ker
-	g := p.padded
-	np := p.np
-	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
-	var kx, ky [16]float64
-	for s, key := range keys {
-		base, jx, jy := int(key>>8), int(key>>4)&15, int(key)&15
-		hornerW16(k, jx, zs[2*s], &kx)
-		hornerW16(k, jy, zs[2*s+1], &ky)
-		v := cs[s]
-		vr, vi := real(v), imag(v)
-		for bi, vy := range ky {
-			row := (*[16]complex128)(g[base+bi*np:])
-			br, bim := vr*vy, vi*vy
-			row[0] = complex(real(row[0])+br*kx[0], imag(row[0])+bim*kx[0])
-			row[1] = complex(real(row[1])+br*kx[1], imag(row[1])+bim*kx[1])
-			row[2] = complex(real(row[2])+br*kx[2], imag(row[2])+bim*kx[2])
-			row[3] = complex(real(row[3])+br*kx[3], imag(row[3])+bim*kx[3])
-			row[4] = complex(real(row[4])+br*kx[4], imag(row[4])+bim*kx[4])
-			row[5] = complex(real(row[5])+br*kx[5], imag(row[5])+bim*kx[5])
-			row[6] = complex(real(row[6])+br*kx[6], imag(row[6])+bim*kx[6])
-			row[7] = complex(real(row[7])+br*kx[7], imag(row[7])+bim*kx[7])
-			row[8] = complex(real(row[8])+br*kx[8], imag(row[8])+bim*kx[8])
-			row[9] = complex(real(row[9])+br*kx[9], imag(row[9])+bim*kx[9])
-			row[10] = complex(real(row[10])+br*kx[10], imag(row[10])+bim*kx[10])
-			row[11] = complex(real(row[11])+br*kx[11], imag(row[11])+bim*kx[11])
-			row[12] = complex(real(row[12])+br*kx[12], imag(row[12])+bim*kx[12])
-			row[13] = complex(real(row[13])+br*kx[13], imag(row[13])+bim*kx[13])
-			row[14] = complex(real(row[14])+br*kx[14], imag(row[14])+bim*kx[14])
-			row[15] = complex(real(row[15])+br*kx[15], imag(row[15])+bim*kx[15])
 		}
 	}
 }
