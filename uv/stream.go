@@ -25,11 +25,12 @@ import (
 // θ_g the beam FWHM at ν_g, so the model visibility of a source at radius r
 // is wrong by
 //
-//	|δV|/|V| ≤ K |ε|,  K = |α| + 8 ln 2 (r/θ_g)²,
+//	|δV|/|V| = |α − 8 ln 2 (r/θ_g)²| |ε| ≤ K |ε|,  K = |α| + 8 ln 2 (r/θ_g)²
 //
-// and the χ² by Σ_k w_k |δV_k|² ≈ K² ⟨ε²⟩ Σ_k w_k |V_k|². With ν_g the
-// geometric mean of the group's extremes, |ε| ≤ Δν/(2ν). Taking α ≤ 4 (the
-// steep spectra of dust emission) and sources inside the half-power radius
+// (the two terms cancel in part for rising spectra, α > 0, and add for
+// falling ones), and the χ² by Σ_k w_k |δV_k|² ≈ K² ⟨ε²⟩ Σ_k w_k |V_k|².
+// With ν_g the geometric mean of the group's extremes, |ε| ≤ Δν/(2ν).
+// Taking |α| ≤ 4 (the steep spectra of dust emission) and sources inside the half-power radius
 // (r ≤ θ/2, so 8 ln 2 (r/θ)² ≤ 1.39) gives K ≤ 5.4, and Δν/ν = 0.35% keeps
 // the error of every model visibility below 5.4 × 0.175% = 0.95% of its
 // amplitude: below 1% of the noise wherever a single visibility's

@@ -151,3 +151,37 @@ func TestStreamingManyGroups(t *testing.T) {
 		}
 	}
 }
+
+// The grouping error bound of DefaultMaxFracBandwidth: within one default
+// group, a source at the half-power radius with spectral index α has model
+// visibilities wrong by K·|ε| to first order when the primary beam and the
+// spectrum are taken at the group frequency, K = α − 8 ln 2 (r/θ)² (the two
+// terms have opposite signs for α > 0), so |δV|/|V| ≤ (|α| + 1.39)·Δν/(2ν)
+// = 0.95% for |α| ≤ 4. Checked for α = ±4 against the exact ratio, to 2%
+// of the first-order value (second-order terms).
+func TestGroupingErrorBound(t *testing.T) {
+	const dish = 12.0
+	a, _ := NewAccumulator(Grid{N: 2, Pixel: 1}, CompressOptions{})
+	// The default group containing 300 GHz: its edges in ln ν.
+	gi := a.groupOf(300e9)
+	w := math.Log1p(DefaultMaxFracBandwidth)
+	lo, hi := math.Exp(float64(gi)*w), math.Exp(float64(gi+1)*w)
+	ng := math.Sqrt(lo * hi)
+	r := NewPrimaryBeam(dish, ng).FWHM / 2
+	bound := (4 + 8*math.Ln2*0.25) * (hi - lo) / ng / 2
+	if bound > 0.0095 {
+		t.Errorf("bound %.5f, want ≤ 0.0095", bound)
+	}
+	for _, alpha := range []float64{4, -4} {
+		model := func(nu float64) float64 { return NewPrimaryBeam(dish, nu).At(r, 0) * math.Pow(nu/ng, alpha) }
+		var worst float64
+		for k := 0; k <= 100; k++ {
+			nu := lo + (hi-lo)*float64(k)/100
+			worst = max(worst, math.Abs(model(nu)/model(ng)-1))
+		}
+		first := math.Abs(alpha-8*math.Ln2*0.25) * (hi - lo) / ng / 2
+		if math.Abs(worst/first-1) > 0.02 || worst > 1.02*bound {
+			t.Errorf("α = %v: largest relative model error %.5f, first order %.5f, bound %.5f", alpha, worst, first, bound)
+		}
+	}
+}
