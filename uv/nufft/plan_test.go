@@ -293,3 +293,31 @@ func TestSetPointsNotFinite(t *testing.T) {
 		}()
 	}
 }
+
+// The benchmark size n = 256 against the DFT, for a few thousand points
+// (relative ℓ2 error ≤ 10ε, as in TestNUFFTvsDFT).
+func TestNUFFTvsDFTLarge(t *testing.T) {
+	if testing.Short() {
+		t.Skip("n = 256 DFT reference is slow")
+	}
+	rnd := rand.New(rand.NewPCG(2, 2))
+	const n, m = 256, 3000
+	x, y := testPoints(rnd, m)
+	f := testGrid(rnd, n)
+	c := randomComplex(rnd, m)
+	want2 := DFT2(nil, f, n, x, y, -1)
+	want1 := DFT1(nil, c, x, y, n, 1)
+	for _, tol := range []float64{1e-6, 1e-12} {
+		p, err := NewPlan(n, tol)
+		if err != nil {
+			t.Fatal(err)
+		}
+		p.SetPoints(x, y)
+		e2 := relErr(p.Type2(nil, f, -1), want2)
+		e1 := relErr(p.Type1(nil, c, 1), want1)
+		t.Logf("tol %g: relative ℓ2 errors: type 2 %.3g, type 1 %.3g", tol, e2, e1)
+		if e2 > 10*tol || e1 > 10*tol {
+			t.Errorf("tol %g: errors %.3g (type 2), %.3g (type 1) > 10ε", tol, e2, e1)
+		}
+	}
+}
