@@ -39,8 +39,8 @@ type Normal struct {
 
 // NewNormal computes the normal system of mp for the measurements, which
 // must all have the mapping's grid size. F is accumulated by direct BeamAt
-// look-ups over all pairs of masked pixels (O(M²) pairs times the non-zeros
-// of L's rows), split over runtime.GOMAXPROCS(0) goroutines with a fixed
+// look-ups over all pairs of masked pixels (O(M²/2) pairs, using the
+// symmetry of B, times the non-zeros of L's rows), split over runtime.GOMAXPROCS(0) goroutines with a fixed
 // partition, so the result does not depend on scheduling.
 func NewNormal(meas []Measurement, mp *Mapping) *Normal {
 	ns := mp.NSource
@@ -63,6 +63,10 @@ func NewNormal(meas []Measurement, mp *Mapping) *Normal {
 	stride := 2*wj + 1
 	beam := make([]float64, (2*wi+1)*stride)
 	gain, wd := make([]float64, m), make([]float64, m)
+	off := make([]int, m) // beam-table offset of each masked pixel
+	for r := range m {
+		off[r] = ii[r]*stride + jj[r]
+	}
 	workers := max(1, min(runtime.GOMAXPROCS(0), m/64))
 	acc := make([][]float64, workers)
 	for w := range acc {
@@ -89,44 +93,36 @@ func NewNormal(meas []Measurement, mp *Mapping) *Normal {
 		}
 		var wg sync.WaitGroup
 		for w := range workers {
-			lo, hi := w*m/workers, (w+1)*m/workers
 			f := acc[w]
 			wg.Go(func() {
 				tmp := make([]float64, ns)
-				var touched []int
-				mark := make([]bool, ns)
-				for r := lo; r < hi; r++ {
+				// Rows are dealt out in turn, so the triangular work is
+				// balanced and the partition fixed.
+				for r := w; r < m; r += workers {
 					if mp.RowPtr[r] == mp.RowPtr[r+1] {
 						continue
 					}
-					// tmp = Σ_r' A_r B(Δ_rr') A_r' L_r'
-					for _, c := range touched {
-						tmp[c] = 0
-						mark[c] = false
-					}
-					touched = touched[:0]
+					// G += L_rᵀ tmp with tmp = ½ w_rr L_r + Σ_{q>r} w_rq L_q,
+					// w_rq = A_r B(Δ_rq) A_q; then F = G + Gᵀ.
+					clear(tmp)
 					base := (ii[r]+wi)*stride + jj[r] + wj
 					gr := gain[r]
-					for q := range m {
+					for q := r; q < m; q++ {
 						p0, p1 := mp.RowPtr[q], mp.RowPtr[q+1]
-						if p0 == p1 {
-							continue
+						wgt := gr * gain[q] * beam[base-off[q]]
+						if q == r {
+							wgt /= 2
 						}
-						wgt := gr * gain[q] * beam[base-ii[q]*stride-jj[q]]
-						for p := p0; p < p1; p++ {
-							c := mp.Col[p]
-							if !mark[c] {
-								mark[c] = true
-								touched = append(touched, c)
-							}
-							tmp[c] += wgt * mp.Val[p]
+						cols, vals := mp.Col[p0:p1], mp.Val[p0:p1]
+						for p, c := range cols {
+							tmp[c] += wgt * vals[p]
 						}
 					}
 					for p := mp.RowPtr[r]; p < mp.RowPtr[r+1]; p++ {
-						row := f[mp.Col[p]*ns:]
+						row := f[mp.Col[p]*ns : (mp.Col[p]+1)*ns]
 						v := mp.Val[p]
-						for _, c := range touched {
-							row[c] += v * tmp[c]
+						for c, x := range tmp {
+							row[c] += v * x
 						}
 					}
 				}
@@ -138,7 +134,7 @@ func NewNormal(meas []Measurement, mp *Mapping) *Normal {
 		for c := a; c < ns; c++ {
 			var s float64
 			for w := range acc {
-				s += acc[w][a*ns+c]
+				s += acc[w][a*ns+c] + acc[w][c*ns+a]
 			}
 			nm.F.SetSym(a, c, s)
 		}
