@@ -173,6 +173,16 @@ func (r *raster) Plot(c draw.Canvas, p *plot.Plot) {
 	x0, x1 := trX(r.left), trX(r.right)
 	y0, y1 := trY(r.bottom), trY(r.top)
 	rect := vg.Rectangle{Min: vg.Point{X: min(x0, x1), Y: min(y0, y1)}, Max: vg.Point{X: max(x0, x1), Y: max(y0, y1)}}
+	if dst, dpi, ok := bitmapOf(c); ok {
+		blitNearest(dst, dpi, rect, r.img)
+		return
+	}
+	c.DrawImage(rect, r.img)
+}
+
+// bitmapOf returns the pixels and resolution behind c when it draws into a
+// raster image (vgimg), looking through nested draw.Canvas values.
+func bitmapOf(c draw.Canvas) (dst *image.RGBA, dpi float64, ok bool) {
 	var vc vg.Canvas = c.Canvas
 	for {
 		inner, ok := vc.(draw.Canvas)
@@ -181,13 +191,12 @@ func (r *raster) Plot(c draw.Canvas, p *plot.Plot) {
 		}
 		vc = inner.Canvas
 	}
-	if bm, ok := vc.(bitmapCanvas); ok {
-		if dst, ok := bm.Image().(*image.RGBA); ok {
-			blitNearest(dst, bm.DPI(), rect, r.img)
-			return
-		}
+	bm, ok := vc.(bitmapCanvas)
+	if !ok {
+		return nil, 0, false
 	}
-	c.DrawImage(rect, r.img)
+	dst, ok = bm.Image().(*image.RGBA)
+	return dst, bm.DPI(), ok
 }
 
 // bitmapCanvas is a raster canvas (vgimg) whose pixels can be written
