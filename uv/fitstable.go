@@ -29,7 +29,11 @@ type fitsSource struct {
 	tbl  *fitsio.Table
 	rows *fitsio.Rows
 	ptrs []any
-	row  int // rows consumed
+	// scale and zero are each column's TSCALn and TZEROn (value = raw ·
+	// scale + zero, FITS Standard 4.0 sec. 7.3.2); logical marks L columns.
+	scale, zero []float64
+	logical     []bool
+	row         int // rows consumed
 	n    int
 	buf  rowBuf
 }
@@ -129,7 +133,20 @@ func (t *TableReader) openFITS(r io.Reader) error {
 					Err: cause(ErrNotNumber, "column format %q is not a scalar number", c.Format)}
 			}
 		}
-		src.ptrs = append(src.ptrs, reflect.New(typ).Interface())
+		if typ.Kind() == reflect.Bool {
+			// fitsio reads any non-zero byte of a logical column as true,
+			// including the standard 'F'; read the byte and decode it here.
+			src.ptrs = append(src.ptrs, new(uint8))
+		} else {
+			src.ptrs = append(src.ptrs, reflect.New(typ).Interface())
+		}
+		scale, zero := c.Bscale, c.Bzero
+		if scale == 0 {
+			scale = 1 // TSCALn = 0 is invalid; older fitsio output wrote it
+		}
+		src.scale = append(src.scale, scale)
+		src.zero = append(src.zero, zero)
+		src.logical = append(src.logical, typ.Kind() == reflect.Bool)
 	}
 	if src.n > 0 {
 		src.rows, err = tbl.Read(0, int64(src.n))
@@ -287,23 +304,29 @@ func (s *fitsSource) scan(t *TableReader, rv *rowVals) error {
 			continue
 		}
 		v := reflect.ValueOf(s.ptrs[c]).Elem().Interface()
-		if r == roleFlag {
-			switch f := v.(type) {
-			case bool:
-				rv.flag = f
-				continue
-			default:
-				x, _ := toFloat(v)
-				if x != 0 && x != 1 {
-					return t.proc.fieldErr(s.row, r, cause(ErrFlagValue, "%v is not 0, 1, true or false", v))
-				}
-				rv.flag = x == 1
-				continue
+		if s.logical[c] {
+			// FITS logical: 'T', 'F', or 0 for undefined (read as false);
+			// 1 is accepted from writers that store booleans as bytes.
+			b := v.(uint8)
+			if r != roleFlag || (b != 'T' && b != 'F' && b != 0 && b != 1) {
+				return t.proc.fieldErr(s.row, r, cause(ErrFlagValue, "logical byte %q is not T or F", b))
 			}
+			rv.flag = b == 'T' || b == 1
+			continue
 		}
 		x, ok := toFloat(v)
 		if !ok {
 			return t.proc.fieldErr(s.row, r, cause(ErrNotNumber, "%v is not a number", v))
+		}
+		if s.scale[c] != 1 || s.zero[c] != 0 {
+			x = x*s.scale[c] + s.zero[c]
+		}
+		if r == roleFlag {
+			if x != 0 && x != 1 {
+				return t.proc.fieldErr(s.row, r, cause(ErrFlagValue, "%v is not 0, 1, true or false", x))
+			}
+			rv.flag = x == 1
+			continue
 		}
 		if r >= roleAnt1 {
 			max := 32767.0
@@ -372,6 +395,80 @@ func WriteFITSTable(w io.Writer, d *Dataset) error {
 	if !printableASCII(d.Meta.Label) {
 		return errors.New("uv: FITS table: label must be printable ASCII")
 	}
+	var buf bytes.Buffer
+	if err := writeFITSTable(&buf, d); err != nil {
+		return err
+	}
+	// fitsio writes real keyword values with 6 significant digits (%G);
+	// rewrite them with the shortest exact form.
+	m := d.Meta
+	exact := map[string]float64{}
+	if m.Freq != 0 {
+		exact["FREQ"] = m.Freq
+	}
+	if m.Dish != 0 {
+		exact["DISH"] = m.Dish
+	}
+	if m.HasPhaseCentre {
+		exact["OBSRA"], exact["OBSDEC"] = m.RA, m.Dec
+	}
+	raw := buf.Bytes()
+	if err := patchFITSReals(raw, exact); err != nil {
+		return err
+	}
+	_, err := w.Write(raw)
+	return err
+}
+
+// patchFITSReals rewrites, in the first extension's header, the value of
+// each keyword in values as the shortest decimal that reads back exactly
+// (FITS free-format real, FITS Standard 4.0 sec. 4.2.4), keeping its
+// comment where it fits in the 80-character card.
+func patchFITSReals(raw []byte, values map[string]float64) error {
+	const block, card = 2880, 80
+	pos, hdu := 0, 0
+	for pos+block <= len(raw) && hdu < 2 {
+		end := false
+		for c := pos; c < pos+block && !end; c += card {
+			line := raw[c : c+card]
+			key := strings.TrimSpace(string(line[:8]))
+			if key == "END" {
+				end = true
+				break
+			}
+			x, ok := values[key]
+			if !ok || hdu != 1 {
+				continue
+			}
+			val := strconv.FormatFloat(x, 'G', -1, 64)
+			if !strings.ContainsAny(val, ".E") {
+				val += ".0"
+			}
+			comment := ""
+			if i := bytes.Index(line[10:], []byte(" / ")); i >= 0 {
+				comment = strings.TrimSpace(string(line[10+i+3:]))
+			}
+			s := fmt.Sprintf("%-8s= %20s / %s", key, val, comment)
+			if len(s) > card {
+				s = s[:card]
+			}
+			copy(line, fmt.Sprintf("%-80s", s))
+			delete(values, key)
+		}
+		pos += block
+		if end {
+			// Skip the data of this HDU: the extension's size comes from
+			// its header, but only HDU 0 (no data) precedes the table.
+			hdu++
+		}
+	}
+	if len(values) > 0 {
+		return fmt.Errorf("uv: FITS table: keywords %v not found to rewrite", values)
+	}
+	return nil
+}
+
+func writeFITSTable(w io.Writer, d *Dataset) error {
 	f, err := fitsio.Create(w)
 	if err != nil {
 		return err
@@ -394,7 +491,7 @@ func WriteFITSTable(w io.Writer, d *Dataset) error {
 		a2    int16
 		sp    int16
 		ch    int32
-		fl    bool
+		fl    uint8
 		cols  []col
 		nextF = 0
 	)
@@ -432,12 +529,18 @@ func WriteFITSTable(w io.Writer, d *Dataset) error {
 		cols = append(cols, col{"chan", "J", "", &ch, func(k int) { ch = d.Chan[k] }})
 	}
 	if d.Flag != nil {
-		cols = append(cols, col{"flag", "L", "", &fl, func(k int) { fl = d.Flag[k] }})
+		// fitsio writes bool as 0/1 bytes; the standard logical is 'T'/'F'.
+		cols = append(cols, col{"flag", "L", "", &fl, func(k int) {
+			fl = 'F'
+			if d.Flag[k] {
+				fl = 'T'
+			}
+		}})
 	}
 	fcols := make([]fitsio.Column, len(cols))
 	ptrs := make([]any, len(cols))
 	for i, c := range cols {
-		fcols[i] = fitsio.Column{Name: c.name, Format: c.format, Unit: c.unit}
+		fcols[i] = fitsio.Column{Name: c.name, Format: c.format, Unit: c.unit, Bscale: 1}
 		ptrs[i] = c.ptr
 	}
 	tbl, err := fitsio.NewTable(fitsExtName, fcols, fitsio.BINARY_TBL)

@@ -151,6 +151,24 @@ func TestGzipAndFITSFiles(t *testing.T) {
 	}
 }
 
+func TestFITSKeywordsExact(t *testing.T) {
+	// Metadata needing 17 digits survives the FITS header (fitsio alone
+	// writes 6 significant digits).
+	d := randomDataset(5, false, 3)
+	d.Meta.Freq, d.Meta.RA, d.Meta.Dec, d.Meta.Dish = 2.3000015625123457e11, 201.36512345678912, -43.019876543210987, 12.345678901234567
+	var buf bytes.Buffer
+	if err := WriteFITSTable(&buf, d); err != nil {
+		t.Fatal(err)
+	}
+	got, _, err := ReadFITSTable(bytes.NewReader(buf.Bytes()), "obs.csv", ReadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got.Meta != d.Meta {
+		t.Errorf("meta %+v, want %+v", got.Meta, d.Meta)
+	}
+}
+
 func TestFITSTableForms(t *testing.T) {
 	// A FITS table read through ReadFITSTable, with metres and sigma, checks
 	// the same conversions as text.
