@@ -34,8 +34,8 @@ type fitsSource struct {
 	scale, zero []float64
 	logical     []bool
 	row         int // rows consumed
-	n    int
-	buf  rowBuf
+	n           int
+	buf         rowBuf
 }
 
 // openFITS decodes a FITS file and prepares its first table.
