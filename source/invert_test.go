@@ -207,6 +207,15 @@ func TestEvidenceBruteForce(t *testing.T) {
 				if d := math.Abs(got - want); d > 1e-6 {
 					t.Errorf("λ = %v: ln ε = %.9f, brute force %.9f (diff %.3g)", lambda, got, want, d)
 				}
+				// σ² and N_eff against the independent inverse.
+				var tr float64
+				for i := range 4 {
+					within(t, "σ²", inv.Sigma[i]*inv.Sigma[i], ainv.At(i, i), 1e-9)
+					for j := range 4 {
+						tr += ainv.At(i, j) * prior.R.At(j, i)
+					}
+				}
+				within(t, "N_eff", inv.Neff, 4-lambda*tr, 1e-9)
 				// The terms add up to ln ε.
 				e := inv.Evidence
 				sumTerms := -0.5*e.Chi2 - e.RegTerm - 0.5*e.LogDetA + 0.5*e.NsLogLambda + 0.5*e.LogDetR + e.DataLogNorm
@@ -257,7 +266,7 @@ type reconstruction struct {
 	inner []bool    // nodes inside the caustics (multiply imaged)
 }
 
-func newReconstruction(t *testing.T, rng *rand.Rand, noise float64, addNoise bool) *reconstruction {
+func newReconstruction(t *testing.T, rng *rand.Rand, noise float64, addNoise, adaptive bool) *reconstruction {
 	t.Helper()
 	g := testGrid{n: 40, pixel: 0.08}
 	sie := lensmodel.SIE{ThetaE: 1, Q: 0.75, PA: 30}
@@ -301,6 +310,10 @@ func newReconstruction(t *testing.T, rng *rand.Rand, noise float64, addNoise boo
 		}
 	}
 	grid := RegularGrid(-0.6, 0.6, -0.6, 0.6, 18, 18)
+	if adaptive {
+		bx, by := TraceMask(g, sie, mask, 2)
+		grid = AdaptiveGrid(bx, by, 18, 18, 0)
+	}
 	mp := NewMapping(g, sie, mask, grid, 2)
 	pf := newPolarFinder(sie, 2048)
 	r := &reconstruction{meas: meas, mp: mp, grid: grid}
@@ -340,7 +353,7 @@ func (r *reconstruction) correlation(s []float64) float64 {
 
 func TestReconstructNoiseFree(t *testing.T) {
 	rng := rand.New(rand.NewPCG(3, 3))
-	rc := newReconstruction(t, rng, 0.02, false)
+	rc := newReconstruction(t, rng, 0.02, false, false)
 	nm := NewNormal([]Measurement{rc.meas}, rc.mp)
 	for _, kind := range []Regularization{Gradient, Curvature} {
 		t.Run(kind.String(), func(t *testing.T) {
@@ -364,7 +377,7 @@ func TestReconstructNoiseFree(t *testing.T) {
 
 func TestEvidenceLambdaBetweenFailures(t *testing.T) {
 	rng := rand.New(rand.NewPCG(4, 4))
-	rc := newReconstruction(t, rng, 0.02, true)
+	rc := newReconstruction(t, rng, 0.02, true, false)
 	nm := NewNormal([]Measurement{rc.meas}, rc.mp)
 	prior, err := NewPrior(rc.grid, Gradient, 0)
 	if err != nil {
@@ -400,7 +413,7 @@ func TestEvidenceLambdaBetweenFailures(t *testing.T) {
 
 func TestSolveCGMatchesCholesky(t *testing.T) {
 	rng := rand.New(rand.NewPCG(5, 5))
-	rc := newReconstruction(t, rng, 0.02, true)
+	rc := newReconstruction(t, rng, 0.02, true, false)
 	nm := NewNormal([]Measurement{rc.meas}, rc.mp)
 	prior, err := NewPrior(rc.grid, Curvature, 0)
 	if err != nil {
@@ -427,4 +440,23 @@ func maxAbs(v []float64) float64 {
 		m = max(m, math.Abs(x))
 	}
 	return m
+}
+
+func TestReconstructAdaptiveGrid(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 3))
+	rc := newReconstruction(t, rng, 0.02, false, true)
+	nm := NewNormal([]Measurement{rc.meas}, rc.mp)
+	prior, err := NewPrior(rc.grid, Gradient, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	inv, err := Invert(nm, prior, rc.grid, rc.mp, InvertOptions{NoErrors: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	c := rc.correlation(inv.Source)
+	t.Logf("adaptive grid: λ = %.3g, correlation %.4f, μ = %.2f", inv.Lambda, c, inv.Magnification)
+	if c < 0.98 {
+		t.Errorf("correlation with the true source inside the caustics %.4f < 0.98", c)
+	}
 }

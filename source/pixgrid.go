@@ -173,16 +173,30 @@ type Mapping struct {
 // lens (nil for none) onto grid g, with sub×sub sub-pixels per pixel (0
 // means 2).
 func NewMapping(pix Pixels, lens lensmodel.Mass, mask []int, g *PixelGrid, sub int) *Mapping {
+	sub = subOrDefault(sub)
+	bx, by := TraceMask(pix, lens, mask, sub)
+	return newMapping(pix, mask, g, sub, bx, by)
+}
+
+func subOrDefault(sub int) int {
 	if sub == 0 {
 		sub = 2
 	}
 	if sub < 1 {
 		panic(fmt.Sprintf("source: sub-pixel count %d is not positive", sub))
 	}
+	return sub
+}
+
+// TraceMask returns the source-plane positions of the sub×sub sub-pixel
+// centres (0 means 2) of each masked pixel of pix seen through lens (nil for
+// none), sub-pixel (a, b) of mask entry r at index (r·sub + a)·sub + b, e.g.
+// to size a PixelGrid with BoundingGrid or AdaptiveGrid.
+func TraceMask(pix Pixels, lens lensmodel.Mass, mask []int, sub int) (bx, by []float64) {
+	sub = subOrDefault(sub)
 	n := pix.Size()
 	d := pix.PixelSize()
-	m := len(mask)
-	x := make([]float64, m*sub*sub)
+	x := make([]float64, len(mask)*sub*sub)
 	y := make([]float64, len(x))
 	for r, k := range mask {
 		if k < 0 || k >= n*n {
@@ -197,7 +211,7 @@ func NewMapping(pix Pixels, lens lensmodel.Mass, mask []int, g *PixelGrid, sub i
 			}
 		}
 	}
-	bx, by := make([]float64, len(x)), make([]float64, len(x))
+	bx, by = make([]float64, len(x)), make([]float64, len(x))
 	switch l := lens.(type) {
 	case nil:
 		copy(bx, x)
@@ -207,6 +221,14 @@ func NewMapping(pix Pixels, lens lensmodel.Mass, mask []int, g *PixelGrid, sub i
 	default:
 		lensmodel.Lens{lens}.Trace(bx, by, x, y)
 	}
+	return bx, by
+}
+
+// newMapping builds the mapping from the traced sub-pixel positions.
+func newMapping(pix Pixels, mask []int, g *PixelGrid, sub int, bx, by []float64) *Mapping {
+	n := pix.Size()
+	d := pix.PixelSize()
+	m := len(mask)
 	mp := &Mapping{Mask: slices.Clone(mask), N: n, NSource: g.Len(), RowPtr: make([]int, 1, m+1)}
 	w := d * d / float64(sub*sub)
 	nx := len(g.X)
