@@ -176,6 +176,9 @@ func (t *TableReader) readHeader() error {
 			return err
 		}
 		t.line++
+		if t.line == 1 {
+			line = bytes.TrimPrefix(line, []byte("\uFEFF")) // byte-order mark of some spreadsheet exports
+		}
 		s := trimSpace(bytes.TrimRight(line, "\r\n"))
 		if hasControl(s) || (len(s) > 0 && s[0] != '#' && !utf8.Valid(s)) {
 			return &ParseError{File: t.name, Line: t.line, Err: cause(ErrBinary, "binary data, not a text table")}

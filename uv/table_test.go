@@ -133,6 +133,7 @@ func TestDelimiters(t *testing.T) {
 		{"tab", "u\tv\tre\tim\tweight\n1.5\t-2\t3\t4e-3\t25\n"},
 		{"runs of spaces", "  u     v   re  im   weight\n 1.5   -2     3  4e-3 25  \n"},
 		{"spaces and tabs mixed", "u \t v\t\tre im weight\n1.5\t \t-2 3 4e-3\t25\n"},
+		{"byte-order mark", "\uFEFFu,v,re,im,weight\n1.5,-2,3,4e-3,25\n"},
 		{"CRLF line ends", "u,v,re,im,weight\r\n1.5,-2,3,4e-3,25\r\n"},
 		{"no final newline", "u,v,re,im,weight\n1.5,-2,3,4e-3,25"},
 		{"comments and blank lines", "# a comment\n\nu,v,re,im,weight\n# between rows\n\n   \n1.5,-2,3,4e-3,25\n# end\n"},
