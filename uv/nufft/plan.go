@@ -121,7 +121,7 @@ const tileWidth = 128
 // The plan copies what it needs: x and y may be changed afterwards. It panics
 // on a non-finite coordinate.
 //
-// The points are sorted, stably, into bins of hb fine-grid rows × 32 columns;
+// The points are sorted, stably, into bins of hb fine-grid rows × 128 columns;
 // the transforms visit them in that order (which keeps the grid in cache) and
 // return results in the caller's order.
 func (p *Plan) SetPoints(x, y []float64) {
