@@ -78,7 +78,7 @@ func TraceFigure(ch Chain) (*Figure, error) {
 	alpha := uint8(max(40, min(200, 2000/walkers)))
 	for k := range np {
 		p := newPlot(xlabel, ch.Names[k])
-		p.Y.Tick.Marker = fewTicks{}
+		p.Y.Tick.Marker = fewTicks
 		c := qualitative[0]
 		c.A = alpha
 		ls := draw.LineStyle{Color: premultiplied(c), Width: 0.4}

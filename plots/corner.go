@@ -90,8 +90,8 @@ func CornerFigure(post Posterior) (*Figure, error) {
 		grid.plots[r] = make([]*plot.Plot, np)
 		for c := 0; c <= r; c++ {
 			p := newPlot(post.Names[c], post.Names[r])
-			p.X.Tick.Marker = fewTicks{}
-			p.Y.Tick.Marker = fewTicks{}
+			p.X.Tick.Marker = fewTicks
+			p.Y.Tick.Marker = fewTicks
 			if r == c {
 				h := Histogram(cols[c], w, lo[c], hi[c], nb)
 				top := slices.Max(h)
@@ -399,33 +399,35 @@ func (l refLine) Plot(c draw.Canvas, p *plot.Plot) {
 	c.StrokeLines(l.ls, c.ClipLinesXY(pts)...)
 }
 
-// fewTicks labels two to four ticks at a round step (1, 2, 2.5, 4 or 5
-// times a power of ten; the step giving closest to three labels, the fewer
-// on a tie), with an unlabelled tick halfway between, so that the labels of
-// small panels do not run into each other; labels carry as many decimals as
-// the step needs.
+// niceTicks labels about n ticks at a round step (1, 2, 2.5, 4 or 5 times
+// a power of ten; the step giving closest to n labels, the fewer on a tie),
+// with an unlabelled tick halfway between; labels carry as many decimals as
+// the step needs and a typographic minus. fewTicks (n = 3) keeps the labels
+// of small panels from running into each other.
 //
 // References:
 //   - J. Talbot, S. Lin & P. Hanrahan (2010), "An extension of Wilkinson's
 //     algorithm for positioning tick labels on axes", IEEE Trans. Vis.
 //     Comput. Graph. 16, 1036 (the nice-number set).
-type fewTicks struct{}
+type niceTicks struct{ n int }
 
-func (fewTicks) Ticks(lo, hi float64) []plot.Tick {
+var fewTicks = niceTicks{n: 3}
+
+func (nt niceTicks) Ticks(lo, hi float64) []plot.Tick {
 	span := hi - lo
 	if !(span > 0) || math.IsInf(span, 0) {
-		return minusTicks{}.Ticks(lo, hi)
+		return plot.DefaultTicks{}.Ticks(lo, hi)
 	}
 	count := func(step float64) int {
 		return int(math.Floor(hi/step+1e-9) - math.Ceil(lo/step-1e-9) + 1)
 	}
 	e := math.Floor(math.Log10(span))
 	step, best, bestN := 0.0, math.MaxInt, 0
-	for k := e - 2; k <= e+1; k++ {
+	for k := e - 3; k <= e+1; k++ {
 		for _, m := range []float64{1, 2, 2.5, 4, 5} {
 			st := m * math.Pow(10, k)
 			n := count(st)
-			d := n - 3
+			d := n - nt.n
 			if d < 0 {
 				d = -d
 			}

@@ -91,7 +91,7 @@ func TestHistogramEdges(t *testing.T) {
 func TestFewTicks(t *testing.T) {
 	for _, tc := range []struct{ lo, hi float64 }{{1.16, 1.24}, {0, 1}, {23, 37}, {-0.003, 0.004}, {1e4, 3e4}} {
 		n := 0
-		for _, tk := range (fewTicks{}).Ticks(tc.lo, tc.hi) {
+		for _, tk := range (fewTicks).Ticks(tc.lo, tc.hi) {
 			if tk.Label != "" {
 				n++
 				if tk.Value < tc.lo-1e-12 || tk.Value > tc.hi+1e-12 {

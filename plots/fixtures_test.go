@@ -86,6 +86,11 @@ var figureCases = []figureCase{
 		in := visFixture(n)
 		return func() (*Figure, error) { return VisibilityFigure(in) }
 	}},
+	{"visibilities-ampphase", func(n int) func() (*Figure, error) {
+		in := visFixture(n)
+		in.AmpPhase = true
+		return func() (*Figure, error) { return VisibilityFigure(in) }
+	}},
 	{"dirty", func(n int) func() (*Figure, error) {
 		in := dirtyFixture(n)
 		return func() (*Figure, error) { return DirtyFigure(in) }

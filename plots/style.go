@@ -110,16 +110,12 @@ func hideTickLabels(a *plot.Axis) {
 // fontOf is the default face at the given size.
 func fontOf(size vg.Length) font.Font { return font.From(plot.DefaultFont, size) }
 
-// minusTicks is DefaultTicks with a typographic minus sign (U+2212) in
-// negative labels.
+// minusTicks is the package's default ticker: about five labels at round
+// steps (niceTicks).
 type minusTicks struct{}
 
 func (minusTicks) Ticks(min, max float64) []plot.Tick {
-	ts := plot.DefaultTicks{}.Ticks(min, max)
-	for k := range ts {
-		ts[k].Label = minusSign(ts[k].Label)
-	}
-	return ts
+	return niceTicks{n: 5}.Ticks(min, max)
 }
 
 // minusSign replaces a leading hyphen by the minus sign U+2212.

@@ -29,6 +29,9 @@ type Visibilities struct {
 	Shift *Point
 	// Bins is the number of equal-width uv-distance bins; 0 means 16.
 	Bins int
+	// AmpPhase makes VisibilityFigure draw amplitude and phase of the
+	// binned means instead of their real and imaginary parts.
+	AmpPhase bool
 }
 
 // VisBin is one uv-distance bin.
@@ -142,10 +145,10 @@ func BinVisibilities(in Visibilities) ([]VisBin, error) {
 	return out, nil
 }
 
-// VisibilityFigure draws the binned real and imaginary parts against uv
-// distance (kλ), in mJy, data as points with 1σ error bars and the model
-// as a line, with the residual (data − model) in panels below, at page
-// width.
+// VisibilityFigure draws the binned real and imaginary parts (or, with
+// AmpPhase, amplitude in mJy and phase in degrees) against uv distance
+// (kλ), in mJy, data as points with 1σ error bars and the model as a line,
+// with the residual (data − model) in panels below, at page width.
 func VisibilityFigure(in Visibilities) (*Figure, error) {
 	bins, err := BinVisibilities(in)
 	if err != nil {
@@ -154,13 +157,9 @@ func VisibilityFigure(in Visibilities) (*Figure, error) {
 	if len(bins) == 0 {
 		return nil, fmt.Errorf("plots: visibilities: no visibility with positive weight")
 	}
-	const mJy = 1e3
-	parts := []struct {
-		name     string
-		val, mod func(b VisBin) float64
-	}{
-		{"Re V (mJy)", func(b VisBin) float64 { return b.Re }, func(b VisBin) float64 { return b.ModelRe }},
-		{"Im V (mJy)", func(b VisBin) float64 { return b.Im }, func(b VisBin) float64 { return b.ModelIm }},
+	parts := reImParts
+	if in.AmpPhase {
+		parts = ampPhaseParts
 	}
 	model := bins[0].HasModel
 	grid := plotGrid{plots: [][]*plot.Plot{{nil, nil}, {nil, nil}}, heights: []float64{2, 1}}
@@ -175,9 +174,10 @@ func VisibilityFigure(in Visibilities) (*Figure, error) {
 		res := make(errPts, len(bins))
 		for k, b := range bins {
 			x := b.UV / 1e3
-			data[k] = errPt{x, part.val(b) * mJy, b.Err * mJy}
-			mod[k] = plotter.XY{X: x, Y: part.mod(b) * mJy}
-			res[k] = errPt{x, (part.val(b) - part.mod(b)) * mJy, b.Err * mJy}
+			v, m, e := part.val(b), part.mod(b), part.err(b)
+			data[k] = errPt{x, v, e}
+			mod[k] = plotter.XY{X: x, Y: m}
+			res[k] = errPt{x, part.diff(v, m), e}
 		}
 		label := ""
 		if c == 0 {
@@ -208,10 +208,7 @@ func VisibilityFigure(in Visibilities) (*Figure, error) {
 			continue
 		}
 		hideTickLabels(&top.X)
-		bot := newPlot("uv distance (kλ)", "data − model (mJy)")
-		if c == 1 {
-			bot.Y.Label.Text = " "
-		}
+		bot := newPlot("uv distance (kλ)", part.resName)
 		if err := addErrPts(bot, res, qualitative[0], ""); err != nil {
 			return nil, err
 		}
@@ -225,6 +222,51 @@ func VisibilityFigure(in Visibilities) (*Figure, error) {
 	}
 	f.Add(0, 0, 1, 1, grid)
 	return f, nil
+}
+
+// visPart is one column of the visibility figure: how to read the data,
+// model and error of a bin in display units, and the residual.
+type visPart struct {
+	name, resName string
+	val, mod, err func(b VisBin) float64
+	diff          func(data, model float64) float64
+}
+
+func minus(d, m float64) float64 { return d - m }
+
+var reImParts = []visPart{
+	{"Re V (mJy)", "data − model (mJy)",
+		func(b VisBin) float64 { return 1e3 * b.Re }, func(b VisBin) float64 { return 1e3 * b.ModelRe },
+		func(b VisBin) float64 { return 1e3 * b.Err }, minus},
+	{"Im V (mJy)", "data − model (mJy)",
+		func(b VisBin) float64 { return 1e3 * b.Im }, func(b VisBin) float64 { return 1e3 * b.ModelIm },
+		func(b VisBin) float64 { return 1e3 * b.Err }, minus},
+}
+
+// ampPhaseParts reads amplitude |V̄| with error σ, and phase arg V̄ in
+// degrees with the high signal-to-noise error σ/|V̄| rad (capped at 180°);
+// phase residuals are wrapped into (−180°, 180°].
+var ampPhaseParts = []visPart{
+	{"|V| (mJy)", "data − model (mJy)",
+		func(b VisBin) float64 { return 1e3 * math.Hypot(b.Re, b.Im) }, func(b VisBin) float64 { return 1e3 * math.Hypot(b.ModelRe, b.ModelIm) },
+		func(b VisBin) float64 { return 1e3 * b.Err }, minus},
+	{"phase (deg)", "data − model (deg)",
+		func(b VisBin) float64 { return math.Atan2(b.Im, b.Re) * 180 / math.Pi },
+		func(b VisBin) float64 { return math.Atan2(b.ModelIm, b.ModelRe) * 180 / math.Pi },
+		func(b VisBin) float64 { return math.Min(180, b.Err/math.Hypot(b.Re, b.Im)*180/math.Pi) },
+		func(d, m float64) float64 { return wrapDegrees(d - m) }},
+}
+
+// wrapDegrees maps an angle in degrees into (−180, 180].
+func wrapDegrees(a float64) float64 {
+	a = math.Mod(a, 360)
+	switch {
+	case a > 180:
+		a -= 360
+	case a <= -180:
+		a += 360
+	}
+	return a
 }
 
 // zeroLine is a horizontal dotted grey line at y = 0 across the data area.

@@ -131,3 +131,30 @@ func ExampleBinVisibilities() {
 	// 350 kλ: 2.000 +0.000 i mJy ± 0.707
 	// 550 kλ: 2.000 +0.000 i mJy ± 0.707
 }
+
+func TestAmpPhaseParts(t *testing.T) {
+	// A bin holding 3 − 4i mJy with σ = 0.5 mJy: amplitude 5 mJy, phase
+	// atan2(−4, 3) = −53.13°, phase error 0.5/5 rad = 5.73°.
+	b := VisBin{Re: 3e-3, Im: -4e-3, Err: 0.5e-3, ModelRe: 3e-3, ModelIm: 4e-3}
+	amp, ph := ampPhaseParts[0], ampPhaseParts[1]
+	for _, c := range []struct {
+		name      string
+		got, want float64
+	}{
+		{"amplitude", amp.val(b), 5},
+		{"amplitude error", amp.err(b), 0.5},
+		{"phase", ph.val(b), -53.130102354},
+		{"phase error", ph.err(b), 0.1 * 180 / math.Pi},
+		{"phase residual", ph.diff(ph.val(b), ph.mod(b)), -106.260204708},
+		{"wrapped residual", ph.diff(170, -170), -20},
+	} {
+		if math.Abs(c.got-c.want) > 1e-6 {
+			t.Errorf("%s = %.9g, want %.9g", c.name, c.got, c.want)
+		}
+	}
+	v := visFixture(16)
+	v.AmpPhase = true
+	if _, err := VisibilityFigure(v); err != nil {
+		t.Fatal(err)
+	}
+}
