@@ -2,6 +2,7 @@ package source
 
 import (
 	"math"
+	"testing"
 
 	"deflect/lensmodel"
 )
@@ -124,4 +125,26 @@ func (p *polarFinder) count(bx, by float64) int {
 		}
 	}
 	return n
+}
+
+func TestPolarFinderMatchesFindImages(t *testing.T) {
+	// The tests' own SIE image counter agrees with the lensmodel image
+	// finder on Σ|μ| inside the caustic, between the caustics and outside.
+	g := testGrid{n: 512, pixel: 0.04}
+	sie := lensmodel.SIE{ThetaE: 1, Q: 0.7, PA: 25}
+	pf := newPolarFinder(sie, 2048)
+	for _, b := range [][2]float64{{0.03, 0.02}, {0.35, -0.1}, {0.1, 0.4}, {1.2, 0.5}} {
+		res, err := lensmodel.FindImages(sie, b[0], b[1], lensmodel.ImageOptions{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		var want float64
+		for _, im := range res.Images {
+			want += math.Abs(im.Mu)
+		}
+		if n := pf.count(b[0], b[1]); n != len(res.Images) {
+			t.Errorf("β = %v: %d images, FindImages %d", b, n, len(res.Images))
+		}
+		within(t, "Σ|μ|", pf.magSum(g, b[0], b[1]), want, 1e-7)
+	}
 }
