@@ -40,11 +40,14 @@ func (p *Plan) interpBandAVX(lo, hi int, dst []complex128) {
 }
 
 // spreadBandAVX is spreadBand with the assembly kernels (c in sorted order).
-func (p *Plan) spreadBandAVX(lo, hi int, c []complex128) {
+func (p *Plan) spreadBandAVX(g []complex128, lo, hi int, c []complex128) {
 	if hi <= lo {
 		return
 	}
+	if len(g) != len(p.padded) {
+		panic("nufft: internal error: spreading onto a grid of the wrong size")
+	}
 	k := &p.ker
-	spreadLoop[p.w](&p.padded[0], p.np, &k.dup[0], (k.deg+1)*k.lanes*8, k.deg,
+	spreadLoop[p.w](&g[0], p.np, &k.dup[0], (k.deg+1)*k.lanes*8, k.deg,
 		&p.key[lo], &p.z[2*lo], &c[lo], hi-lo)
 }

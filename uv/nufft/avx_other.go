@@ -7,4 +7,6 @@ const haveAVX = false
 
 func (p *Plan) interpBandAVX(lo, hi int, dst []complex128) { panic("nufft: no assembly kernels") }
 
-func (p *Plan) spreadBandAVX(lo, hi int, c []complex128) { panic("nufft: no assembly kernels") }
+func (p *Plan) spreadBandAVX(g []complex128, lo, hi int, c []complex128) {
+	panic("nufft: no assembly kernels")
+}

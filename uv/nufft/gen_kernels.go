@@ -28,10 +28,10 @@ func main() {
 		fmt.Fprintf(&b, "\tcase %d:\n\t\tinterpW%d(p, lo, hi, dst)\n", w, w)
 	}
 	b.WriteString("\tdefault:\n\t\tpanic(\"nufft: kernel width out of range\")\n\t}\n}\n\n")
-	b.WriteString("// spreadBand runs spread's loop over sorted points [lo, hi) with strengths c[lo:hi] (sorted order).\n")
-	b.WriteString("func (p *Plan) spreadBand(lo, hi int, c []complex128) {\n\tswitch p.w {\n")
+	b.WriteString("// spreadBand runs spread's loop over sorted points [lo, hi) with strengths c[lo:hi] (sorted order), adding to the padded grid g.\n")
+	b.WriteString("func (p *Plan) spreadBand(g []complex128, lo, hi int, c []complex128) {\n\tswitch p.w {\n")
 	for w := minWidth; w <= maxWidth; w++ {
-		fmt.Fprintf(&b, "\tcase %d:\n\t\tspreadW%d(p, lo, hi, c)\n", w, w)
+		fmt.Fprintf(&b, "\tcase %d:\n\t\tspreadW%d(p, g, lo, hi, c)\n", w, w)
 	}
 	b.WriteString("\tdefault:\n\t\tpanic(\"nufft: kernel width out of range\")\n\t}\n}\n\n")
 	for w := minWidth; w <= maxWidth; w++ {
@@ -142,9 +142,9 @@ func interp(b *bytes.Buffer, w int) {
 
 func spread(b *bytes.Buffer, w int) {
 	fmt.Fprintf(b, "// spreadW%d is spread's loop for w = %d.\n", w, w)
-	fmt.Fprintf(b, "func spreadW%d(p *Plan, lo, hi int, c []complex128) {\n", w)
+	fmt.Fprintf(b, "func spreadW%d(p *Plan, g []complex128, lo, hi int, c []complex128) {\n", w)
 	b.WriteString("\tcs := c[lo:hi]\n")
-	b.WriteString("\tk := &p.ker\n\tg := p.padded\n\tnp := p.np\n")
+	b.WriteString("\tk := &p.ker\n\tnp := p.np\n")
 	b.WriteString("\tkeys, zs := p.key[lo:hi], p.z[2*lo:2*hi]\n")
 	fmt.Fprintf(b, "\tvar kx, ky [%d]float64\n", w)
 	b.WriteString("\tfor s, key := range keys {\n")

@@ -38,37 +38,37 @@ func (p *Plan) interpBand(lo, hi int, dst []complex128) {
 	}
 }
 
-// spreadBand runs spread's loop over sorted points [lo, hi) with strengths c[lo:hi] (sorted order).
-func (p *Plan) spreadBand(lo, hi int, c []complex128) {
+// spreadBand runs spread's loop over sorted points [lo, hi) with strengths c[lo:hi] (sorted order), adding to the padded grid g.
+func (p *Plan) spreadBand(g []complex128, lo, hi int, c []complex128) {
 	switch p.w {
 	case 2:
-		spreadW2(p, lo, hi, c)
+		spreadW2(p, g, lo, hi, c)
 	case 3:
-		spreadW3(p, lo, hi, c)
+		spreadW3(p, g, lo, hi, c)
 	case 4:
-		spreadW4(p, lo, hi, c)
+		spreadW4(p, g, lo, hi, c)
 	case 5:
-		spreadW5(p, lo, hi, c)
+		spreadW5(p, g, lo, hi, c)
 	case 6:
-		spreadW6(p, lo, hi, c)
+		spreadW6(p, g, lo, hi, c)
 	case 7:
-		spreadW7(p, lo, hi, c)
+		spreadW7(p, g, lo, hi, c)
 	case 8:
-		spreadW8(p, lo, hi, c)
+		spreadW8(p, g, lo, hi, c)
 	case 9:
-		spreadW9(p, lo, hi, c)
+		spreadW9(p, g, lo, hi, c)
 	case 10:
-		spreadW10(p, lo, hi, c)
+		spreadW10(p, g, lo, hi, c)
 	case 11:
-		spreadW11(p, lo, hi, c)
+		spreadW11(p, g, lo, hi, c)
 	case 12:
-		spreadW12(p, lo, hi, c)
+		spreadW12(p, g, lo, hi, c)
 	case 13:
-		spreadW13(p, lo, hi, c)
+		spreadW13(p, g, lo, hi, c)
 	case 14:
-		spreadW14(p, lo, hi, c)
+		spreadW14(p, g, lo, hi, c)
 	case 15:
-		spreadW15(p, lo, hi, c)
+		spreadW15(p, g, lo, hi, c)
 	default:
 		panic("nufft: kernel width out of range")
 	}
@@ -117,10 +117,9 @@ func interpW2(p *Plan, lo, hi int, dst []complex128) {
 }
 
 // spreadW2 is spread's loop for w = 2.
-func spreadW2(p *Plan, lo, hi int, c []complex128) {
+func spreadW2(p *Plan, g []complex128, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
 	k := &p.ker
-	g := p.padded
 	np := p.np
 	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [2]float64
@@ -183,10 +182,9 @@ func interpW3(p *Plan, lo, hi int, dst []complex128) {
 }
 
 // spreadW3 is spread's loop for w = 3.
-func spreadW3(p *Plan, lo, hi int, c []complex128) {
+func spreadW3(p *Plan, g []complex128, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
 	k := &p.ker
-	g := p.padded
 	np := p.np
 	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [3]float64
@@ -252,10 +250,9 @@ func interpW4(p *Plan, lo, hi int, dst []complex128) {
 }
 
 // spreadW4 is spread's loop for w = 4.
-func spreadW4(p *Plan, lo, hi int, c []complex128) {
+func spreadW4(p *Plan, g []complex128, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
 	k := &p.ker
-	g := p.padded
 	np := p.np
 	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [4]float64
@@ -324,10 +321,9 @@ func interpW5(p *Plan, lo, hi int, dst []complex128) {
 }
 
 // spreadW5 is spread's loop for w = 5.
-func spreadW5(p *Plan, lo, hi int, c []complex128) {
+func spreadW5(p *Plan, g []complex128, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
 	k := &p.ker
-	g := p.padded
 	np := p.np
 	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [5]float64
@@ -399,10 +395,9 @@ func interpW6(p *Plan, lo, hi int, dst []complex128) {
 }
 
 // spreadW6 is spread's loop for w = 6.
-func spreadW6(p *Plan, lo, hi int, c []complex128) {
+func spreadW6(p *Plan, g []complex128, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
 	k := &p.ker
-	g := p.padded
 	np := p.np
 	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [6]float64
@@ -477,10 +472,9 @@ func interpW7(p *Plan, lo, hi int, dst []complex128) {
 }
 
 // spreadW7 is spread's loop for w = 7.
-func spreadW7(p *Plan, lo, hi int, c []complex128) {
+func spreadW7(p *Plan, g []complex128, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
 	k := &p.ker
-	g := p.padded
 	np := p.np
 	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [7]float64
@@ -547,10 +541,9 @@ func interpW8(p *Plan, lo, hi int, dst []complex128) {
 }
 
 // spreadW8 is spread's loop for w = 8.
-func spreadW8(p *Plan, lo, hi int, c []complex128) {
+func spreadW8(p *Plan, g []complex128, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
 	k := &p.ker
-	g := p.padded
 	np := p.np
 	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [8]float64
@@ -620,10 +613,9 @@ func interpW9(p *Plan, lo, hi int, dst []complex128) {
 }
 
 // spreadW9 is spread's loop for w = 9.
-func spreadW9(p *Plan, lo, hi int, c []complex128) {
+func spreadW9(p *Plan, g []complex128, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
 	k := &p.ker
-	g := p.padded
 	np := p.np
 	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [9]float64
@@ -695,10 +687,9 @@ func interpW10(p *Plan, lo, hi int, dst []complex128) {
 }
 
 // spreadW10 is spread's loop for w = 10.
-func spreadW10(p *Plan, lo, hi int, c []complex128) {
+func spreadW10(p *Plan, g []complex128, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
 	k := &p.ker
-	g := p.padded
 	np := p.np
 	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [10]float64
@@ -772,10 +763,9 @@ func interpW11(p *Plan, lo, hi int, dst []complex128) {
 }
 
 // spreadW11 is spread's loop for w = 11.
-func spreadW11(p *Plan, lo, hi int, c []complex128) {
+func spreadW11(p *Plan, g []complex128, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
 	k := &p.ker
-	g := p.padded
 	np := p.np
 	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [11]float64
@@ -851,10 +841,9 @@ func interpW12(p *Plan, lo, hi int, dst []complex128) {
 }
 
 // spreadW12 is spread's loop for w = 12.
-func spreadW12(p *Plan, lo, hi int, c []complex128) {
+func spreadW12(p *Plan, g []complex128, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
 	k := &p.ker
-	g := p.padded
 	np := p.np
 	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [12]float64
@@ -932,10 +921,9 @@ func interpW13(p *Plan, lo, hi int, dst []complex128) {
 }
 
 // spreadW13 is spread's loop for w = 13.
-func spreadW13(p *Plan, lo, hi int, c []complex128) {
+func spreadW13(p *Plan, g []complex128, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
 	k := &p.ker
-	g := p.padded
 	np := p.np
 	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [13]float64
@@ -1015,10 +1003,9 @@ func interpW14(p *Plan, lo, hi int, dst []complex128) {
 }
 
 // spreadW14 is spread's loop for w = 14.
-func spreadW14(p *Plan, lo, hi int, c []complex128) {
+func spreadW14(p *Plan, g []complex128, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
 	k := &p.ker
-	g := p.padded
 	np := p.np
 	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [14]float64
@@ -1100,10 +1087,9 @@ func interpW15(p *Plan, lo, hi int, dst []complex128) {
 }
 
 // spreadW15 is spread's loop for w = 15.
-func spreadW15(p *Plan, lo, hi int, c []complex128) {
+func spreadW15(p *Plan, g []complex128, lo, hi int, c []complex128) {
 	cs := c[lo:hi]
 	k := &p.ker
-	g := p.padded
 	np := p.np
 	keys, zs := p.key[lo:hi], p.z[2*lo:2*hi]
 	var kx, ky [15]float64

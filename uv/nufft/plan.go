@@ -59,6 +59,9 @@ type Plan struct {
 	// caller's array out of the kernel loops.
 	sorted []complex128
 	bin    []int32 // SetPoints scratch: each point's bin
+
+	// acc is the padded-grid accumulator of AddType1, made on first use.
+	acc []complex128
 }
 
 // NewPlan returns a plan for n×n grids (n even, ≥ 2) at relative tolerance
@@ -300,25 +303,67 @@ func (p *Plan) finishType2(dst []complex128, sign int) []complex128 {
 //	dst[j*n+i] = Σ_k c[k] exp(s·i·(m1 x_k + m2 y_k)),
 //
 // with s = sign, for the points of the last SetPoints, c in the caller's
-// order. dst is allocated when nil; otherwise len(dst) must be n*n.
+// order. dst is allocated when nil; otherwise len(dst) must be n*n. Type1
+// leaves the accumulator of AddType1 alone.
 func (p *Plan) Type1(dst, c []complex128, sign int) []complex128 {
 	checkSign(sign)
+	p.gather(c)
+	clear(p.padded)
+	p.spread(p.padded, p.sorted)
+	return p.finishType1(dst, p.padded, sign)
+}
+
+// AddType1 spreads the strengths c (caller's order) of the points of the last
+// SetPoints onto the plan's type-1 accumulator, so that a sum over many sets
+// of points (a data set read in chunks) needs one FFT, in FinishType1. The
+// accumulator starts at zero and is cleared by ResetType1; Type1 and Type2
+// calls in between leave it alone. Terms are added in a fixed order, so the
+// result is reproducible bit for bit for the same sequence of calls.
+func (p *Plan) AddType1(c []complex128) {
+	p.gather(c)
+	if p.acc == nil {
+		p.acc = make([]complex128, len(p.padded))
+	}
+	p.spread(p.acc, p.sorted)
+}
+
+// ResetType1 clears the accumulator of AddType1.
+func (p *Plan) ResetType1() { clear(p.acc) }
+
+// FinishType1 sets dst to the type-1 sum with sign s over all strengths
+// added by AddType1 since the last ResetType1 (zero if none), and returns it.
+// dst is allocated when nil; otherwise len(dst) must be n*n. The accumulator
+// is left as it is.
+func (p *Plan) FinishType1(dst []complex128, sign int) []complex128 {
+	checkSign(sign)
+	if p.acc == nil {
+		p.acc = make([]complex128, len(p.padded))
+	}
+	return p.finishType1(dst, p.acc, sign)
+}
+
+// gather copies c (caller's order) into p.sorted (sorted order).
+func (p *Plan) gather(c []complex128) {
 	if len(c) != p.npts {
 		panic(fmt.Sprintf("nufft: %d strengths for %d points", len(c), p.npts))
-	}
-	n, nf := p.n, p.nf
-	if dst == nil {
-		dst = make([]complex128, n*n)
-	} else if len(dst) != n*n {
-		panic(fmt.Sprintf("nufft: dst length %d, want %d", len(dst), n*n))
 	}
 	parallelRange(p.npts, func(_, lo, hi int) {
 		for s, k := range p.perm[lo:hi] {
 			p.sorted[lo+s] = c[k]
 		}
 	})
-	p.spread(p.sorted)
-	p.foldPadded()
+}
+
+// finishType1 folds the padded grid g onto the fine grid, transforms it and
+// writes the deapodised modes to dst.
+func (p *Plan) finishType1(dst, g []complex128, sign int) []complex128 {
+	n, nf := p.n, p.nf
+	if dst == nil {
+		dst = make([]complex128, n*n)
+	} else if len(dst) != n*n {
+		panic(fmt.Sprintf("nufft: dst length %d, want %d", len(dst), n*n))
+	}
+	p.foldPadded(g)
 	// Only columns (modes m1) [0, n/2) ∪ [nf−n/2, nf) are needed.
 	p.fft.transform(p.fine, sign, nf, nf, n/2, nf-n/2)
 	for j := range n {
@@ -357,9 +402,9 @@ func (p *Plan) wrapToPadded() {
 	})
 }
 
-// foldPadded adds the padded grid periodically into the fine grid, in a fixed
-// order (padded rows ascending, then columns ascending) for every value.
-func (p *Plan) foldPadded() {
+// foldPadded sets the fine grid to the padded grid g added periodically, in a
+// fixed order (padded rows ascending, then columns ascending) for every value.
+func (p *Plan) foldPadded(g []complex128) {
 	nf, np, pad := p.nf, p.np, p.pad
 	clear(p.fine)
 	// Padded rows q ≡ r + pad (mod nf) land on fine row r; each worker owns a
@@ -368,7 +413,7 @@ func (p *Plan) foldPadded() {
 		for r := lo; r < hi; r++ {
 			dst := p.fine[r*nf : r*nf+nf]
 			for q := (r + pad) % nf; q < np; q += nf {
-				src := p.padded[q*np : q*np+np]
+				src := g[q*np : q*np+np]
 				if pad > nf {
 					for c, v := range src {
 						dst[((c-pad)%nf+nf)%nf] += v

@@ -321,3 +321,47 @@ func TestNUFFTvsDFTLarge(t *testing.T) {
 		}
 	}
 }
+
+// AddType1 over chunks of the points, then FinishType1, equals Type1 over all
+// of them (to rounding: the terms arrive in a different order), also when a
+// Type2 and a Type1 call come in between; ResetType1 starts again from zero.
+func TestAddType1(t *testing.T) {
+	rnd := rand.New(rand.NewPCG(1, 1))
+	const n, m = 32, 3000
+	x, y := testPoints(rnd, m)
+	c := randomComplex(rnd, m)
+	f := testGrid(rnd, n)
+	p, err := NewPlan(n, 1e-9)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i, v := range p.FinishType1(nil, 1) {
+		if v != 0 {
+			t.Fatalf("empty accumulator: value %d is %v, want 0", i, v)
+		}
+	}
+	p.SetPoints(x, y)
+	want := p.Type1(nil, c, 1)
+	for _, chunk := range [][2]int{{0, 1000}, {1000, 1001}, {1001, 2500}, {2500, m}} {
+		lo, hi := chunk[0], chunk[1]
+		p.SetPoints(x[lo:hi], y[lo:hi])
+		p.AddType1(c[lo:hi])
+		p.Type2(nil, f, -1)
+		p.Type1(nil, c[lo:hi], 1)
+	}
+	got := p.FinishType1(nil, 1)
+	if e := relErr(got, want); e > 1e-13 {
+		t.Errorf("chunked accumulation vs Type1: %g", e)
+	}
+	again := p.FinishType1(nil, 1)
+	for i := range got {
+		if got[i] != again[i] {
+			t.Fatalf("FinishType1 changed the accumulator")
+		}
+	}
+	p.ResetType1()
+	p.AddType1(c[2500:])
+	if e := relErr(p.FinishType1(nil, -1), p.Type1(nil, c[2500:], -1)); e > 1e-14 {
+		t.Errorf("after ResetType1: %g", e)
+	}
+}

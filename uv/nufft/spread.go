@@ -15,18 +15,17 @@ func (p *Plan) interpolate(dst []complex128) {
 	})
 }
 
-// spread zeroes the padded grid and adds c[perm[s]] ψx[a] ψy[b] at padded
-// (l0y+b, l0x+a) for every sorted point s: even bands concurrently, then odd
+// spread adds c[s] ψx[a] ψy[b] to the padded grid g at (l0y+b, l0x+a) for
+// every sorted point s (c in sorted order): even bands concurrently, then odd
 // bands, so that no two goroutines touch the same row and every grid value
 // receives its terms in the same order whatever the scheduling.
-func (p *Plan) spread(c []complex128) {
-	clear(p.padded)
+func (p *Plan) spread(g, c []complex128) {
 	for phase := range 2 {
 		parallelItems(phase, 2, p.nbands, func(_, band int) {
 			if p.avx {
-				p.spreadBandAVX(p.bandAt[band], p.bandAt[band+1], c)
+				p.spreadBandAVX(g, p.bandAt[band], p.bandAt[band+1], c)
 			} else {
-				p.spreadBand(p.bandAt[band], p.bandAt[band+1], c)
+				p.spreadBand(g, p.bandAt[band], p.bandAt[band+1], c)
 			}
 		})
 	}
