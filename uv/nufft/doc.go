@@ -72,6 +72,10 @@
 // (2n)² pruned to three quarters of its lines, plus M·w² multiply–adds for
 // the kernel and M·2w(deg+1) for its polynomial weights.
 //
+// For data read in chunks, AddType1 spreads each chunk's strengths onto an
+// accumulator (after SetPoints with the chunk's points) and FinishType1 does
+// the single FFT, so memory stays O(n² + chunk) and the FFT cost is paid once.
+//
 // FFT2 is the two-dimensional complex FFT the Plan uses, exported for other
 // packages' convolutions.
 //
