@@ -47,9 +47,11 @@ func DirtyFigure(d DirtyImages) (*Figure, error) {
 			return nil, err
 		}
 	}
-	if d.Model.N != d.Data.N || d.Residual.N != d.Data.N || d.Model.Pixel != d.Data.Pixel || d.Residual.Pixel != d.Data.Pixel {
-		return nil, fmt.Errorf("plots: dirty images: data, model and residual grids differ (N %d, %d, %d; pixel %g, %g, %g arcsec)",
-			d.Data.N, d.Model.N, d.Residual.N, d.Data.Pixel, d.Model.Pixel, d.Residual.Pixel)
+	same := func(a, b SkyImage) bool { return a.N == b.N && a.Pixel == b.Pixel && a.X0 == b.X0 && a.Y0 == b.Y0 }
+	if !same(d.Model, d.Data) || !same(d.Residual, d.Data) {
+		return nil, fmt.Errorf("plots: dirty images: data, model and residual grids differ (N %d, %d, %d; pixel %g, %g, %g arcsec; centres (%g, %g), (%g, %g), (%g, %g) arcsec)",
+			d.Data.N, d.Model.N, d.Residual.N, d.Data.Pixel, d.Model.Pixel, d.Residual.Pixel,
+			d.Data.X0, d.Data.Y0, d.Model.X0, d.Model.Y0, d.Residual.X0, d.Residual.Y0)
 	}
 	sigma := d.Sigma
 	if !(sigma > 0) {

@@ -50,6 +50,7 @@ func TestDirtyErrors(t *testing.T) {
 		edit func(d *DirtyImages)
 	}{
 		{"grid mismatch", func(d *DirtyImages) { d.Model = gaussImage(8, 0.05, nil, 0, nil) }},
+		{"grid offset", func(d *DirtyImages) { d.Residual.X0 = 0.1 }},
 		{"flat residual, no sigma", func(d *DirtyImages) {
 			d.Residual = gaussImage(16, 0.05, nil, 0, nil)
 			d.Sigma = 0
