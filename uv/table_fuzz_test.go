@@ -2,6 +2,7 @@ package uv
 
 import (
 	"bytes"
+	"encoding/binary"
 	"errors"
 	"math"
 	"strconv"
@@ -148,6 +149,33 @@ func TestParseFloatDoesNotAllocate(t *testing.T) {
 		b := []byte(s)
 		if n := testing.AllocsPerRun(100, func() { parseFloat(b) }); n != 0 {
 			t.Errorf("parseFloat(%q): %v allocations, want 0", s, n)
+		}
+	}
+}
+
+func TestEightDigits(t *testing.T) {
+	// The SWAR test and value agree with a byte-by-byte loop, including the
+	// bytes next to '0' and '9' ('/', ':') and high bytes.
+	rng := newTestRand(8)
+	for range 100000 {
+		var b [8]byte
+		for i := range b {
+			b[i] = byte('0' + rng.IntN(10))
+		}
+		if rng.IntN(2) == 0 {
+			b[rng.IntN(8)] = []byte{'/', ':', ' ', '.', 'e', 0, 0x80, 0xff, 0xb0}[rng.IntN(9)]
+		}
+		want, all := uint64(0), true
+		for _, c := range b {
+			if c < '0' || c > '9' {
+				all = false
+				break
+			}
+			want = want*10 + uint64(c-'0')
+		}
+		v := binary.LittleEndian.Uint64(b[:])
+		if eightDigits(v) != all || (all && parseEightDigits(v) != want) {
+			t.Fatalf("%q: eightDigits %v, value %d; want %v, %d", b, eightDigits(v), parseEightDigits(v), all, want)
 		}
 	}
 }

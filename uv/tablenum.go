@@ -1,6 +1,7 @@
 package uv
 
 import (
+	"encoding/binary"
 	"math"
 	"math/big"
 	"math/bits"
@@ -54,6 +55,15 @@ func fastFloat(b []byte) (f float64, ok bool) {
 	exp := 0    // decimal exponent adjustment from the fraction
 	digits := 0 // digits seen, including leading zeros
 	for ; i < len(b) && '0' <= b[i] && b[i] <= '9'; i++ {
+		if m != 0 && nd <= 11 && i+8 <= len(b) {
+			if v := binary.LittleEndian.Uint64(b[i:]); eightDigits(v) {
+				m = m*1e8 + parseEightDigits(v)
+				nd += 8
+				digits += 8
+				i += 7
+				continue
+			}
+		}
 		digits++
 		if m == 0 && b[i] == '0' {
 			continue
@@ -67,6 +77,16 @@ func fastFloat(b []byte) (f float64, ok bool) {
 	if i < len(b) && b[i] == '.' {
 		i++
 		for ; i < len(b) && '0' <= b[i] && b[i] <= '9'; i++ {
+			if m != 0 && nd <= 11 && i+8 <= len(b) {
+				if v := binary.LittleEndian.Uint64(b[i:]); eightDigits(v) {
+					m = m*1e8 + parseEightDigits(v)
+					nd += 8
+					digits += 8
+					exp -= 8
+					i += 7
+					continue
+				}
+			}
 			digits++
 			exp--
 			if m == 0 && b[i] == '0' {
@@ -223,6 +243,23 @@ func eiselLemire64(man uint64, exp10 int, neg bool) (float64, bool) {
 		b |= 1 << 63
 	}
 	return math.Float64frombits(b), true
+}
+
+// eightDigits reports whether the 8 bytes of v (little-endian) are all
+// ASCII digits, and parseEightDigits returns their value: the SWAR forms of
+// Lemire (2021, Software: Practice and Experience 51, 1700, sec. 4.2).
+func eightDigits(v uint64) bool {
+	return ((v+0x4646464646464646)|(v-0x3030303030303030))&0x8080808080808080 == 0
+}
+
+func parseEightDigits(v uint64) uint64 {
+	const mask = 0x000000FF000000FF
+	const mul1 = 100 + 1000000<<32
+	const mul2 = 1 + 10000<<32
+	v -= 0x3030303030303030
+	v = v*10 + v>>8
+	v = ((v&mask)*mul1 + (v>>16&mask)*mul2) >> 32
+	return uint64(uint32(v))
 }
 
 // parseUint parses a non-negative decimal integer no larger than max.
