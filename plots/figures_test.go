@@ -10,6 +10,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 
@@ -275,5 +276,80 @@ func BenchmarkFigures(b *testing.B) {
 				b.ReportMetric(float64(cpuTime()-c0)/1e6/float64(b.N), "cpu-ms/op")
 			})
 		}
+	}
+}
+
+// TestBeamRendered draws the beam on blank dirty images and measures the
+// white ellipse in the first panel's data area of the PNG: PA 0 must be
+// taller than wide, PA 90 wider than tall, and PA 45 (north-east, so
+// up-left on the page) must lean the other way from PA −45.
+func TestBeamRendered(t *testing.T) {
+	const n = 32
+	blank := SkyImage{N: n, Pixel: 0.1, Values: make([]float64, n*n)}
+	moments := func(pa float64) (vc, vr, cov float64) {
+		d := DirtyImages{Data: blank, Model: blank, Residual: blank, Sigma: 1, Beam: Beam{Major: 0.8, Minor: 0.3, PA: pa}}
+		f, err := DirtyFigure(d)
+		if err != nil {
+			t.Fatal(err)
+		}
+		img, _ := renderPNG(t, f)
+		b := img.Bounds()
+		bg := Viridis.At(0.5) // zero on a scale from −0.5 to 0.5
+		isBg := func(x, y int) bool {
+			r, g, bb, _ := img.At(x, y).RGBA()
+			return uint8(r>>8) == bg.R && uint8(g>>8) == bg.G && uint8(bb>>8) == bg.B
+		}
+		// Data area of the first panel: the columns and rows of the left
+		// third mostly in the background colour (the colour bar holds it
+		// in a row or two only).
+		cols, rows := make([]int, b.Max.X), make([]int, b.Max.Y)
+		for y := b.Min.Y; y < b.Max.Y; y++ {
+			for x := b.Min.X; x < b.Dx()/3; x++ {
+				if isBg(x, y) {
+					cols[x]++
+					rows[y]++
+				}
+			}
+		}
+		span := func(c []int) (lo, hi int) {
+			top := slices.Max(c)
+			lo, hi = len(c), 0
+			for k, v := range c {
+				if v > top/2 {
+					lo, hi = min(lo, k), max(hi, k)
+				}
+			}
+			return lo, hi
+		}
+		x0, x1 := span(cols)
+		y0, y1 := span(rows)
+		var sx, sy, sxx, syy, sxy, cnt float64
+		for y := y0 + 2; y < y1-2; y++ {
+			for x := x0 + 2; x < x1-2; x++ {
+				r, g, bb, _ := img.At(x, y).RGBA()
+				if r>>8 > 240 && g>>8 > 240 && bb>>8 > 240 {
+					fx, fy := float64(x), float64(y)
+					sx, sy, sxx, syy, sxy, cnt = sx+fx, sy+fy, sxx+fx*fx, syy+fy*fy, sxy+fx*fy, cnt+1
+				}
+			}
+		}
+		if cnt < 20 {
+			t.Fatalf("PA %g: beam not found (%g white pixels)", pa, cnt)
+		}
+		mx, my := sx/cnt, sy/cnt
+		return sxx/cnt - mx*mx, syy/cnt - my*my, sxy/cnt - mx*my
+	}
+	if vc, vr, _ := moments(0); !(vr > 2*vc) {
+		t.Errorf("PA 0: column variance %.1f, row variance %.1f; want taller than wide", vc, vr)
+	}
+	if vc, vr, _ := moments(90); !(vc > 2*vr) {
+		t.Errorf("PA 90: column variance %.1f, row variance %.1f; want wider than tall", vc, vr)
+	}
+	// Up-left on the page is −column and −row together: positive covariance.
+	if _, _, c := moments(45); !(c > 0) {
+		t.Errorf("PA 45: column–row covariance %.1f, want > 0 (major axis up-left, toward north-east)", c)
+	}
+	if _, _, c := moments(-45); !(c < 0) {
+		t.Errorf("PA −45: column–row covariance %.1f, want < 0 (major axis up-right, toward north-west)", c)
 	}
 }
