@@ -1,6 +1,7 @@
 package lensmodel
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"reflect"
@@ -233,6 +234,9 @@ func FindImages(m Mass, bx, by float64, opt ImageOptions) (*ImageResult, error) 
 	}
 	f := finder{m: m, bx: bx, by: by, tol: s.tol, scale: s.curve.half}
 	err = g.walk(s.curve.maxCells, func(i, j, size int) bool {
+		if f.overflow {
+			return false
+		}
 		if g.containsCentre(i, j, size, centres) {
 			return true
 		}
@@ -299,6 +303,9 @@ func FindImages(m Mass, bx, by float64, opt ImageOptions) (*ImageResult, error) 
 			res.SingularCentres = append(res.SingularCentres, c)
 		}
 	}
+	if f.overflow {
+		return nil, fmt.Errorf("%w: more than %d images of the source at (%g, %g)", ErrRingSource, MaxImages, bx, by)
+	}
 	res.Images = f.images
 	sort.Slice(res.Images, func(a, b int) bool { return res.Images[a].Fermat < res.Images[b].Fermat })
 	if s.delayScale != 0 && len(res.Images) > 0 {
@@ -345,17 +352,21 @@ func (o ImageOptions) settings(m Mass, bx, by float64, centres []Centre) (imageS
 
 // finder accumulates converged, distinct images.
 type finder struct {
-	m      Mass
-	bx, by float64
-	tol    float64
-	scale  float64
-	images []Image
+	m        Mass
+	bx, by   float64
+	tol      float64
+	scale    float64
+	images   []Image
+	overflow bool // more than MaxImages solutions
 }
 
 // triangle seeds Newton's method when the mapped triangle (q0, q1, q2)
 // contains the source, from the image-plane point with the same barycentric
 // coordinates in (p0, p1, p2).
 func (f *finder) triangle(p0, p1, p2, q0, q1, q2 [2]float64) {
+	if f.overflow {
+		return
+	}
 	d := (q1[0]-q0[0])*(q2[1]-q0[1]) - (q2[0]-q0[0])*(q1[1]-q0[1])
 	if d == 0 || math.IsNaN(d) || math.IsInf(d, 0) {
 		return
@@ -421,7 +432,21 @@ func (f *finder) newton(x, y float64) {
 // image.
 const dupDist = 1e-7
 
+// MaxImages is the number of distinct images beyond which FindImages gives
+// up with ErrRingSource: only a source on a caustic (e.g. exactly behind
+// the centre of a circular lens, imaged into an Einstein ring) has so many.
+const MaxImages = 100
+
+// ErrRingSource is returned, wrapped, when the images of a point source
+// form a continuum: the source sits on a caustic of a lens, such as the
+// point caustic of a circularly symmetric lens.
+var ErrRingSource = errors.New("lensmodel: the images form a ring or arc (source on a caustic); move the source off it")
+
 func (f *finder) add(x, y float64) {
+	if len(f.images) >= MaxImages {
+		f.overflow = true
+		return
+	}
 	for _, im := range f.images {
 		if math.Hypot(im.X-x, im.Y-y) < dupDist {
 			return

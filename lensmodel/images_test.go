@@ -1,6 +1,7 @@
 package lensmodel
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"math/rand/v2"
@@ -282,5 +283,16 @@ func BenchmarkFindImages(b *testing.B) {
 				}
 			}
 		})
+	}
+}
+
+// TestFindImagesRing: a source exactly behind the centre of a circular
+// lens is imaged into the Einstein ring (Schneider, Ehlers & Falco 1992,
+// sect. 8.1); the finder reports ErrRingSource instead of a list.
+func TestFindImagesRing(t *testing.T) {
+	for _, m := range []Mass{SIE{ThetaE: 1, Q: 1}, SIE{ThetaE: 1, Q: 1, Core: 0.1}, PointMass{ThetaE: 0.5}} {
+		if _, err := FindImages(m, 0, 0, ImageOptions{}); !errors.Is(err, ErrRingSource) {
+			t.Errorf("%+v: error %v, want ErrRingSource", m, err)
+		}
 	}
 }
