@@ -66,7 +66,7 @@
 // # Cost and memory
 //
 // A Plan for an n×n grid holds two fine grids of about (2n)² complex values
-// (4 MiB each for n = 256) and, per point, 48 bytes (kernel position and
+// (4 MiB each for n = 256) and, per point, 52 bytes (kernel position and
 // polynomial pieces, permutation, scratch). SetPoints costs O(M) (a stable counting sort of the
 // points into bins of the fine grid); each transform costs one 2-D FFT of
 // (2n)² pruned to three quarters of its lines, plus M·w² multiply–adds for

@@ -49,6 +49,7 @@ type Plan struct {
 	key    []uint64
 	z      []float64
 	perm   []int32 // perm[sorted index] = caller's index
+	inv    []int32 // inv[caller's index] = sorted index
 	bandAt []int   // points of band b are sorted indices bandAt[b] … bandAt[b+1]−1
 
 	// avx selects the AVX2/FMA assembly kernels (where the CPU has them).
@@ -144,10 +145,11 @@ func (p *Plan) SetPoints(x, y []float64) {
 		p.key = make([]uint64, m)
 		p.z = make([]float64, 2*m)
 		p.perm = make([]int32, m)
+		p.inv = make([]int32, m)
 		p.sorted = make([]complex128, m)
 		p.bin = make([]int32, m)
 	}
-	p.key, p.z, p.perm = p.key[:m], p.z[:2*m], p.perm[:m]
+	p.key, p.z, p.perm, p.inv = p.key[:m], p.z[:2*m], p.perm[:m], p.inv[:m]
 	p.sorted, p.bin = p.sorted[:m], p.bin[:m]
 	// A stable counting sort over fixed chunks: count per chunk, offsets in
 	// (bin, chunk) order, scatter per chunk. The permutation is the unique
@@ -201,6 +203,7 @@ func (p *Plan) SetPoints(x, y []float64) {
 				s := next[b]
 				next[b]++
 				p.perm[s] = int32(k)
+				p.inv[k] = int32(s)
 				p.setKey(s, wrapTurns(x[k])*fnf, wrapTurns(y[k])*fnf)
 			}
 		}
@@ -347,9 +350,11 @@ func (p *Plan) gather(c []complex128) {
 	if len(c) != p.npts {
 		panic(fmt.Sprintf("nufft: %d strengths for %d points", len(c), p.npts))
 	}
+	// Sequential reads and scattered writes: stores that miss the cache do
+	// not stall the loop the way loads do.
 	parallelRange(p.npts, func(_, lo, hi int) {
-		for s, k := range p.perm[lo:hi] {
-			p.sorted[lo+s] = c[k]
+		for k, s := range p.inv[lo:hi] {
+			p.sorted[s] = c[lo+k]
 		}
 	})
 }
