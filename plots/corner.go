@@ -125,7 +125,7 @@ func CornerFigure(post Posterior) (*Figure, error) {
 				p.Y.Label.Text = ""
 				p.Y.Tick.Length = 0
 			} else {
-				h2 := Histogram2D(cols[c], cols[r], w, lo[c], hi[c], lo[r], hi[r], nb)
+				h2 := histogram2D(cols[c], cols[r], w, lo[c], hi[c], lo[r], hi[r], nb)
 				smooth2D(h2, nb, 1)
 				lv := CredibleLevels(h2.w, 0.68, 0.95)
 				for m, ls := range []draw.LineStyle{
@@ -253,9 +253,9 @@ func (g *hist2D) Z(c, r int) float64 { return g.w[r*g.n+c] }
 func (g *hist2D) X(c int) float64    { return g.xlo + (float64(c)+0.5)*(g.xhi-g.xlo)/float64(g.n) }
 func (g *hist2D) Y(r int) float64    { return g.ylo + (float64(r)+0.5)*(g.yhi-g.ylo)/float64(g.n) }
 
-// Histogram2D bins weighted points (x, y) into n×n equal bins spanning
+// histogram2D bins weighted points (x, y) into n×n equal bins spanning
 // [xlo, xhi]×[ylo, yhi].
-func Histogram2D(x, y, w []float64, xlo, xhi, ylo, yhi float64, n int) *hist2D {
+func histogram2D(x, y, w []float64, xlo, xhi, ylo, yhi float64, n int) *hist2D {
 	g := &hist2D{n: n, xlo: xlo, xhi: xhi, ylo: ylo, yhi: yhi, w: make([]float64, n*n)}
 	dx, dy := (xhi-xlo)/float64(n), (yhi-ylo)/float64(n)
 	for s := range x {

@@ -33,7 +33,7 @@ func TestCredibleLevelsGaussian(t *testing.T) {
 		a, b := rng.NormFloat64(), rng.NormFloat64()
 		x[s], y[s], w[s] = sx*a, sy*(rho*a+math.Sqrt(1-rho*rho)*b), 1
 	}
-	h := Histogram2D(x, y, w, -5*sx, 5*sx, -5*sy, 5*sy, nb)
+	h := histogram2D(x, y, w, -5*sx, 5*sx, -5*sy, 5*sy, nb)
 	binArea := (10 * sx / nb) * (10 * sy / nb)
 	for _, p := range []float64{0.68, 0.95} {
 		lv := CredibleLevels(h.w, p)[0]
