@@ -13,6 +13,8 @@ import (
 type Summary struct {
 	Label string `json:"label"`
 	File  string `json:"file"`
+	// PhaseCentre is (RA, Dec) in degrees when the table gave one.
+	PhaseCentre *[2]float64 `json:"phase_centre_deg,omitempty"`
 
 	// Rows accounting, as in ReadReport.
 	Rows             int      `json:"rows"`
@@ -86,6 +88,9 @@ type Summary struct {
 // the dataset did not come from a file).
 func Summarize(d *Dataset, rep *ReadReport) Summary {
 	s := Summary{Label: d.Meta.Label, File: d.Meta.Source, Dish: d.Meta.Dish}
+	if d.Meta.HasPhaseCentre {
+		s.PhaseCentre = &[2]float64{d.Meta.RA, d.Meta.Dec}
+	}
 	if rep != nil {
 		s.File = rep.File
 		s.Rows, s.Used, s.Flagged = rep.Rows, rep.Used, rep.Flagged

@@ -36,17 +36,17 @@ const maxWeightRows = 1000000
 //	w_k,true = Factor · w_k,   Factor = 1/SigmaScale².
 type WeightScale struct {
 	// Method is MethodDifferences or MethodImagScatter.
-	Method string
+	Method string `json:"method"`
 	// SigmaScale is the ratio of the true to the stated σ.
-	SigmaScale float64
+	SigmaScale float64 `json:"sigma_scale"`
 	// Factor is the ratio of the true to the stated weights.
-	Factor float64
+	Factor float64 `json:"factor"`
 	// Samples is the number of real values the estimate used (each
 	// difference or imaginary part is one).
-	Samples int
+	Samples int `json:"samples"`
 	// RelError is the approximate relative standard error of Factor,
 	// √(2/Samples) for a Gaussian variance estimate.
-	RelError float64
+	RelError float64 `json:"rel_error"`
 }
 
 // EstimateWeightScale estimates the true noise of d's unflagged rows

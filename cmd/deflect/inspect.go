@@ -118,6 +118,9 @@ func writeSummary(w io.Writer, s *uv.Summary, userField bool) {
 		}
 		return
 	}
+	if pc := s.PhaseCentre; pc != nil {
+		line("phase centre", "RA %.6f°, Dec %+.6f°", pc[0], pc[1])
+	}
 	if s.FreqMax > 0 {
 		if s.FreqMin == s.FreqMax {
 			line("frequency", "%s", hz(s.FreqMin))

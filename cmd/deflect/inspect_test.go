@@ -21,7 +21,7 @@ func TestInspect(t *testing.T) {
 	text := out.String()
 	for _, want := range []string{
 		"[example array, band 6]", "rows", "1688 read:", "8 autocorrelations (u = v = 0)",
-		"resolution", "λ/B_max, common practice", "0.6 λ/B_min", "primary beam", "1.13 λ/D, D = 12 m",
+		"phase centre", "RA 150.000000°, Dec -12.500000°", "resolution", "λ/B_max, common practice", "0.6 λ/B_min", "primary beam", "1.13 λ/D, D = 12 m",
 		"successive differences", "imaginary scatter on longest baselines", "w-term", "suggested grid",
 	} {
 		if !strings.Contains(text, want) {
