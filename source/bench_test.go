@@ -5,6 +5,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"testing"
+	"time"
 
 	"deflect/lensmodel"
 )
@@ -26,9 +27,11 @@ func BenchmarkRender(b *testing.B) {
 		b.Run(fmt.Sprintf("tol=%g", tol), func(b *testing.B) {
 			b.ReportAllocs()
 			var st RenderStats
+			c0 := processCPU()
 			for b.Loop() {
 				_, st = Render(dst, g, groupLens, src, RenderOptions{Tol: tol})
 			}
+			reportCPU(b, c0)
 			b.ReportMetric(float64(st.Rays)/float64(g.n*g.n), "rays/pixel")
 		})
 	}
@@ -79,14 +82,18 @@ func BenchmarkPixelSource(b *testing.B) {
 	mp := NewMapping(g, groupLens, mask, grid, 2)
 	nm := NewNormal([]Measurement{meas}, mp)
 	b.Run("mapping", func(b *testing.B) {
+		c0 := processCPU()
 		for b.Loop() {
 			NewMapping(g, groupLens, mask, grid, 2)
 		}
+		reportCPU(b, c0)
 	})
 	b.Run("normal", func(b *testing.B) {
+		c0 := processCPU()
 		for b.Loop() {
 			NewNormal([]Measurement{meas}, mp)
 		}
+		reportCPU(b, c0)
 	})
 	inv, err := Invert(nm, prior, grid, mp, InvertOptions{NoErrors: true})
 	if err != nil {
@@ -94,6 +101,7 @@ func BenchmarkPixelSource(b *testing.B) {
 	}
 	b.Run("fixed-lambda", func(b *testing.B) {
 		// mapping, normal matrix, one Cholesky and the evidence
+		c0 := processCPU()
 		for b.Loop() {
 			mp := NewMapping(g, groupLens, mask, grid, 2)
 			nm := NewNormal([]Measurement{meas}, mp)
@@ -101,9 +109,11 @@ func BenchmarkPixelSource(b *testing.B) {
 				b.Fatal(err)
 			}
 		}
+		reportCPU(b, c0)
 	})
 	b.Run("evidence-lambda", func(b *testing.B) {
 		var evals int
+		c0 := processCPU()
 		for b.Loop() {
 			mp := NewMapping(g, groupLens, mask, grid, 2)
 			nm := NewNormal([]Measurement{meas}, mp)
@@ -113,6 +123,14 @@ func BenchmarkPixelSource(b *testing.B) {
 			}
 			evals = inv.Evaluations
 		}
+		reportCPU(b, c0)
 		b.ReportMetric(float64(evals), "factorisations")
 	})
+}
+
+// reportCPU reports the process CPU time per iteration since c0 (all
+// goroutines; with -cpu 1 the cost on one core even when the machine is
+// shared).
+func reportCPU(b *testing.B, c0 time.Duration) {
+	b.ReportMetric(float64(processCPU()-c0)/1e6/float64(b.N), "cpu-ms/op")
 }

@@ -5,6 +5,9 @@ import (
 	"fmt"
 	"math"
 
+	"gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/blas/blas64"
+	"gonum.org/v1/gonum/lapack/lapack64"
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -94,8 +97,7 @@ type Inversion struct {
 type solver struct {
 	nm    *Normal
 	prior *Prior
-	a     *mat.SymDense
-	ch    mat.Cholesky
+	a     *mat.SymDense // F + λR, then its Cholesky factor U (upper)
 	s     *mat.VecDense
 	b     *mat.VecDense
 	norm  float64
@@ -122,16 +124,23 @@ func (sv *solver) eval(lambda float64) (Evidence, error) {
 		}
 	}
 	sv.evals++
-	if !sv.ch.Factorize(sv.a) {
+	// LAPACK's Cholesky directly: mat.Cholesky would also estimate the
+	// condition number, which costs as much again here.
+	u, ok := lapack64.Potrf(a)
+	if !ok {
 		return Evidence{}, fmt.Errorf("%w at λ = %g", errNotPD, lambda)
 	}
-	if err := sv.ch.SolveVecTo(sv.s, sv.b); err != nil {
-		return Evidence{}, fmt.Errorf("source: solving for the source at λ = %g: %w", lambda, err)
+	var logDet float64
+	for i := range n {
+		logDet += 2 * math.Log(u.Data[i*u.Stride+i])
 	}
+	sd := sv.s.RawVector().Data
+	copy(sd, sv.nm.B)
+	lapack64.Potrs(u, blas64.General{Rows: n, Cols: 1, Stride: 1, Data: sd})
 	e := Evidence{
 		Chi2:        sv.nm.DataTerm - 2*mat.Dot(sv.b, sv.s) + mat.Inner(sv.s, sv.nm.F, sv.s),
 		RegTerm:     0.5 * lambda * mat.Inner(sv.s, sv.prior.R, sv.s),
-		LogDetA:     sv.ch.LogDet(),
+		LogDetA:     logDet,
 		NsLogLambda: float64(n) * math.Log(lambda),
 		LogDetR:     sv.prior.LogDet,
 		DataLogNorm: sv.norm,
@@ -187,14 +196,14 @@ func Invert(nm *Normal, prior *Prior, g *PixelGrid, mp *Mapping, opt InvertOptio
 	}
 	inv.Magnification = inv.ImageFlux / inv.Flux
 	if !opt.NoErrors {
-		var ainv mat.SymDense
-		if err := sv.ch.InverseTo(&ainv); err != nil {
-			return nil, fmt.Errorf("source: inverting F + λR: %w", err)
+		ai, ok := lapack64.Potri(blas64.Triangular{Uplo: blas.Upper, Diag: blas.NonUnit, N: n,
+			Stride: sv.a.RawSymmetric().Stride, Data: sv.a.RawSymmetric().Data})
+		if !ok {
+			return nil, fmt.Errorf("source: inverting F + λR at λ = %g failed", lambda)
 		}
 		inv.Sigma = make([]float64, n)
 		var tr float64
 		r := prior.R.RawSymmetric()
-		ai := ainv.RawSymmetric()
 		for i := range n {
 			inv.Sigma[i] = math.Sqrt(ai.Data[i*ai.Stride+i])
 			tr += ai.Data[i*ai.Stride+i] * r.Data[i*r.Stride+i]
