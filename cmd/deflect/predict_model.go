@@ -25,6 +25,7 @@ type predictLensSpec struct {
 	Name   string             `json:"name,omitempty"`
 	Params map[string]float64 `json:"params"`
 	where  string             // "file:line" or "--lens" for messages
+	ties   map[string]predictTie
 }
 
 // predictCosmo is the [cosmology] table.
@@ -129,6 +130,9 @@ func parsePredictModel(name string, data []byte) (*predictModel, error) {
 		}
 		pm.specs = append(pm.specs, spec)
 	}
+	if err := predictResolveTies(pm.specs); err != nil {
+		return nil, err
+	}
 	if err := pm.build(); err != nil {
 		return nil, err
 	}
@@ -219,6 +223,19 @@ func predictParseLensTable(t map[string]any, index int, at func(string) string) 
 		if _, ok := allowed[k]; !ok {
 			return spec, fmt.Errorf("%s: lens %d (%s): unknown key %q%s (want %s)", at(k), index, kind, k, predictSuggest(k, predictSortedKeys(allowed)), strings.Join(predictSortedKeys(allowed), ", "))
 		}
+		if tab, ok := t[k].(map[string]any); ok {
+			if to, ok := tab["same_as"]; ok {
+				ref, ok := to.(string)
+				if !ok {
+					return spec, fmt.Errorf("%s: lens %d (%s): %s: same_as must be a string like \"g1.x\"", at(k), index, kind, k)
+				}
+				if spec.ties == nil {
+					spec.ties = map[string]predictTie{}
+				}
+				spec.ties[k] = predictTie{ref: ref, where: at(k)}
+				continue
+			}
+		}
 		x, err := predictNumber(t[k])
 		if err != nil {
 			return spec, fmt.Errorf("%s: lens %d (%s): %s %v", at(k), index, kind, k, err)
@@ -226,6 +243,45 @@ func predictParseLensTable(t map[string]any, index int, at func(string) string) 
 		spec.Params[k] = x
 	}
 	return spec, nil
+}
+
+// predictTie is a parameter tied to another component's, same_as = "NAME.KEY".
+type predictTie struct {
+	ref   string
+	where string
+}
+
+// predictResolveTies copies tied parameters from the components they name,
+// following chains of ties.
+func predictResolveTies(specs []predictLensSpec) error {
+	byName := map[string]int{}
+	for i, s := range specs {
+		if s.Name != "" {
+			byName[s.Name] = i
+		}
+	}
+	for i := range specs {
+		for k, tie := range specs[i].ties {
+			ref := tie.ref
+			for hops := 0; ; hops++ {
+				name, key, ok := strings.Cut(ref, ".")
+				j, found := byName[name]
+				if !ok || !found {
+					return fmt.Errorf("%s: %s: same_as = %q names no lens component (want NAME.KEY with a named [[lens]])", tie.where, k, tie.ref)
+				}
+				if v, ok := specs[j].Params[key]; ok {
+					specs[i].Params[k] = v
+					break
+				}
+				next, ok := specs[j].ties[key]
+				if !ok || hops > len(specs) {
+					return fmt.Errorf("%s: %s: same_as = %q: %s has no number for %s", tie.where, k, tie.ref, name, key)
+				}
+				ref = next.ref
+			}
+		}
+	}
+	return nil
 }
 
 // predictParseLensFlag parses --lens 'kind:key=value,key=value'.

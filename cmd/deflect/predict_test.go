@@ -123,6 +123,32 @@ func TestPredictLensFlags(t *testing.T) {
 	}
 }
 
+// TestPredictTies: same_as copies a parameter from a named component, as
+// in the fit model file.
+func TestPredictTies(t *testing.T) {
+	const text = `[[lens]]
+kind = "sie"
+name = "g1"
+x = 0.4
+y = {start = -0.2, min = -1, max = 1}
+theta_e = 1
+[[lens]]
+kind = "nfw"
+x = {same_as = "g1.x"}
+y = {same_as = "g1.y"}
+kappa_s = 0.1
+r_s = 5
+`
+	pm, err := parsePredictModel("ties.toml", []byte(text))
+	if err != nil {
+		t.Fatal(err)
+	}
+	n := pm.lens[1].(lensmodel.NFW)
+	if n.X != 0.4 || n.Y != -0.2 {
+		t.Errorf("tied centre (%g, %g), want (0.4, -0.2)", n.X, n.Y)
+	}
+}
+
 // TestPredictNFWMass: an NFW halo given by M200 and c gets the κ_s and r_s
 // of Cosmology.NFWFromM200.
 func TestPredictNFWMass(t *testing.T) {
@@ -173,6 +199,7 @@ func TestPredictErrors(t *testing.T) {
 		{"free without start", []string{write("d.toml", good+"[[lens]]\nkind = \"sie\"\ntheta_e = {min = 1, max = 2}\n"), "--source", "0,0"}, 1, "d.toml:8: lens 1 (sie): theta_e is a free parameter without a start value"},
 		{"toml syntax", []string{write("e.toml", "[cosmology\n"), "--source", "0,0"}, 1, "e.toml:1"},
 		{"redshift order", []string{write("f.toml", "[cosmology]\nz_lens = 2\nz_source = 1\nH0 = 70\nOm = 0.3\n[[lens]]\nkind = \"point\"\ntheta_e = 1\n"), "--source", "0,0"}, 1, "z_lens < z_source"},
+		{"tie to nothing", []string{write("h.toml", good+"[[lens]]\nkind = \"sie\"\ntheta_e = 1\nx = {same_as = \"g9.x\"}\n"), "--source", "0,0"}, 1, `h.toml:9: x: same_as = "g9.x" names no lens component`},
 		{"nfw needs cosmology", []string{"--lens", "nfw:m200=1e13,c=4", "--source", "0,0"}, 2, "cosmology"},
 		{"file and flags", []string{write("g.toml", good), "--lens", "sie:theta_e=1", "--source", "0,0"}, 2, "not both"},
 	}
