@@ -199,7 +199,9 @@ func (r *ImageResult) CentralNote() string {
 // the close image pairs near critical curves and the faint central images
 // of cored lenses. Every mapped triangle that contains the source seeds a
 // damped Newton iteration on the lens equation (as do the centres); the
-// converged solutions are de-duplicated.
+// converged solutions are de-duplicated. Newton's method is also started
+// from the source position, so the outer image of a distant source is
+// found even outside the square.
 //
 // References:
 //   - Schneider P., Ehlers J., Falco E. E., 1992, Gravitational Lenses
@@ -285,6 +287,9 @@ func FindImages(m Mass, bx, by float64, opt ImageOptions) (*ImageResult, error) 
 		return nil, err
 	}
 	res := &ImageResult{}
+	// The outermost image of a source far from the lens lies near the
+	// source itself, possibly outside the square.
+	f.newton(bx, by)
 	for _, c := range centres {
 		switch singularity(m, c) {
 		case regularCentre:

@@ -296,3 +296,25 @@ func TestFindImagesRing(t *testing.T) {
 		}
 	}
 }
+
+// TestFindImagesFarSource: far from a lens with a mass sheet there is one
+// image, θ = β/(1 − κ) for a sheet alone, outside the automatic square
+// (Schneider, Ehlers & Falco 1992, sect. 5.5: the mass sheet rescales the
+// image plane).
+func TestFindImagesFarSource(t *testing.T) {
+	m := Lens{Sheet{KappaExt: 0.6}, SIE{ThetaE: 0.2, Q: 1, Core: 0.05}}
+	bx, by := 8.0, -6.0
+	res, err := FindImages(m, bx, by, ImageOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	checkLensEquation(t, m, bx, by, res.Images)
+	if len(res.Images) != 1 {
+		t.Fatalf("%d images, want 1", len(res.Images))
+	}
+	// The small cored SIE adds nearly θ_E r̂ there: r ≈ (|β| + θ_E)/(1 − κ)
+	// to within θ_E s/r/(1 − κ) ≈ 0.001.
+	if r := math.Hypot(res.Images[0].X, res.Images[0].Y); math.Abs(r-(10+0.2)/0.4) > 0.002 {
+		t.Errorf("image at r = %g, want (|β| + θ_E)/(1 − κ) ≈ %g", r, (10+0.2)/0.4)
+	}
+}
