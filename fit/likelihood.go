@@ -31,8 +31,8 @@ import (
 // ν_ref (Jy per pixel), f_d the flux scale and (Δx_d, Δy_d) the astrometric
 // offset of the dataset: a feature at (x, y) in the model appears at
 // (x + Δx_d, y + Δy_d) in dataset d. Point components are lensed by the
-// image finder and their images deposited on the grid with a Lanczos-3
-// kernel (see depositPoint). The primary beam of each group multiplies
+// image finder and their images deposited on the grid with a windowed-sinc
+// kernel (see depositPoint; visibility error ≤ 3e-6 relative). The primary beam of each group multiplies
 // the sky inside uv.Compressed.
 //
 // LogLike is safe for concurrent use: scratch images come from a pool.

@@ -76,16 +76,16 @@ type DatasetData struct {
 // DataInfo is what a fit needs from a table's summary; it is cached beside
 // the compressed products.
 type DataInfo struct {
-	Key              string           `json:"key"`
-	Pixel            float64          `json:"pixel_arcsec"`
-	GridN            int              `json:"grid_n"`
-	FreqMin          float64          `json:"freq_min_hz"`
-	FreqMax          float64          `json:"freq_max_hz"`
-	Resolution       float64          `json:"resolution_arcsec"`
-	WeightScale      *uv.WeightScale  `json:"weight_scale,omitempty"`
-	WeightScaleError string           `json:"weight_scale_error,omitempty"`
-	Rows             int              `json:"rows"`
-	Used             int              `json:"used"`
+	Key              string          `json:"key"`
+	Pixel            float64         `json:"pixel_arcsec"`
+	GridN            int             `json:"grid_n"`
+	FreqMin          float64         `json:"freq_min_hz"`
+	FreqMax          float64         `json:"freq_max_hz"`
+	Resolution       float64         `json:"resolution_arcsec"`
+	WeightScale      *uv.WeightScale `json:"weight_scale,omitempty"`
+	WeightScaleError string          `json:"weight_scale_error,omitempty"`
+	Rows             int             `json:"rows"`
+	Used             int             `json:"used"`
 }
 
 func (d *Data) readOptions(base uv.ReadOptions) uv.ReadOptions {
