@@ -38,7 +38,7 @@ func BenchmarkRender(b *testing.B) {
 }
 
 // gaussMeasurement is a Measurement with a Gaussian dirty beam of σ = 2
-// pixels and a pseudo-random dirty image, for timing.
+// pixels and peak Σw = 1e8 Jy⁻² (image noise 1e-4 Jy/beam), for timing.
 type gaussMeasurement struct {
 	n     int
 	dirty []float64
@@ -47,9 +47,9 @@ type gaussMeasurement struct {
 func (m *gaussMeasurement) Size() int                { return m.n }
 func (m *gaussMeasurement) DirtyAt(i, j int) float64 { return m.dirty[j*m.n+i] }
 func (m *gaussMeasurement) GainAt(i, j int) float64  { return 1 }
-func (m *gaussMeasurement) DataTerm() float64        { return 1e6 }
+func (m *gaussMeasurement) DataTerm() float64        { return 1e12 }
 func (m *gaussMeasurement) BeamAt(di, dj int) float64 {
-	return 1e4 * math.Exp(-float64(di*di+dj*dj)/8)
+	return 1e8 * math.Exp(-float64(di*di+dj*dj)/8)
 }
 
 func BenchmarkPixelSource(b *testing.B) {
@@ -57,9 +57,33 @@ func BenchmarkPixelSource(b *testing.B) {
 	// 40×25 = 1000 source nodes, one lens model.
 	g := testGrid{n: 128, pixel: 0.04}
 	rng := rand.New(rand.NewPCG(1, 1))
+	// The dirty image of a lensed Sérsic, B ⋆ I, plus noise of covariance
+	// B: white noise convolved with K, K ⋆ K = B (a Gaussian of σ = √2
+	// pixels and Σ K² = B(0)).
+	white := make([]float64, g.n*g.n)
+	for k := range white {
+		white[k] = rng.NormFloat64()
+	}
+	kAmp := math.Sqrt(1e8 / (2 * math.Pi))
 	meas := &gaussMeasurement{n: g.n, dirty: make([]float64, g.n*g.n)}
+	src := Source{Components: []Component{Sersic{X: 0.1, Y: 0.05, Flux: 5e-3, Reff: 0.2, N: 1, Q: 0.7, PA: 40}}}
+	sky, _ := Render(nil, g, groupLens, src, RenderOptions{Tol: 1e-2})
 	for k := range meas.dirty {
-		meas.dirty[k] = rng.NormFloat64()
+		i, j := k%g.n, k/g.n
+		var d float64
+		for k2, f := range sky {
+			if f > 1e-12 {
+				d += meas.BeamAt(i-k2%g.n, j-k2/g.n) * f
+			}
+		}
+		for di := -8; di <= 8; di++ {
+			for dj := -8; dj <= 8; dj++ {
+				if i+di >= 0 && i+di < g.n && j+dj >= 0 && j+dj < g.n {
+					d += kAmp * math.Exp(-float64(di*di+dj*dj)/4) * white[(j+dj)*g.n+i+di]
+				}
+			}
+		}
+		meas.dirty[k] = d
 	}
 	var mask []int
 	for k := range g.n * g.n {
@@ -118,6 +142,23 @@ func BenchmarkPixelSource(b *testing.B) {
 			mp := NewMapping(g, groupLens, mask, grid, 2)
 			nm := NewNormal([]Measurement{meas}, mp)
 			inv, err := Invert(nm, prior, grid, mp, InvertOptions{NoErrors: true})
+			if err != nil {
+				b.Fatal(err)
+			}
+			evals = inv.Evaluations
+		}
+		reportCPU(b, c0)
+		b.ReportMetric(float64(evals), "factorisations")
+	})
+	b.Run("warm-lambda", func(b *testing.B) {
+		// λ search started from a nearby value, as from the previous lens
+		// model in a fit
+		var evals int
+		c0 := processCPU()
+		for b.Loop() {
+			mp := NewMapping(g, groupLens, mask, grid, 2)
+			nm := NewNormal([]Measurement{meas}, mp)
+			inv, err := Invert(nm, prior, grid, mp, InvertOptions{LambdaStart: 1.3 * inv.Lambda, NoErrors: true})
 			if err != nil {
 				b.Fatal(err)
 			}

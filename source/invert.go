@@ -58,10 +58,13 @@ type InvertOptions struct {
 	// Lambda > 0 fixes the regularisation constant; 0 chooses it by
 	// maximising the evidence over ln λ.
 	Lambda float64
-	// LambdaMin and LambdaMax bound the search; 0 means λ0 e^{∓15} with
-	// λ0 = tr F / tr R.
+	// LambdaStart > 0 starts the search there with steps of 0.5 in ln λ
+	// (e.g. the λ of the previous lens model in a fit); 0 starts at
+	// λ0 = tr F / tr R with steps of 2.
+	LambdaStart float64
+	// LambdaMin and LambdaMax bound the search; 0 means λ0 e^{∓15}.
 	LambdaMin, LambdaMax float64
-	// Tol is the accuracy of the maximising ln λ; 0 means 0.02.
+	// Tol is the accuracy of the maximising ln λ; 0 means 0.05.
 	Tol float64
 	// DataLogNorm is the log normalisation of the data likelihood, which
 	// the compressed χ² does not carry: Σ_k ln(w_k/(2π)) over the complex
@@ -102,6 +105,12 @@ type solver struct {
 	b     *mat.VecDense
 	norm  float64
 	evals int
+	// best is the evaluation of largest evidence so far, with its source.
+	best struct {
+		lambda float64
+		ev     Evidence
+		s      []float64
+	}
 }
 
 func newSolver(nm *Normal, prior *Prior, dataNorm float64) *solver {
@@ -146,15 +155,19 @@ func (sv *solver) eval(lambda float64) (Evidence, error) {
 		DataLogNorm: sv.norm,
 	}
 	e.LogEvidence = -0.5*e.Chi2 - e.RegTerm - 0.5*e.LogDetA + 0.5*e.NsLogLambda + 0.5*e.LogDetR + e.DataLogNorm
+	if sv.best.s == nil || e.LogEvidence > sv.best.ev.LogEvidence {
+		sv.best.lambda, sv.best.ev = lambda, e
+		sv.best.s = append(sv.best.s[:0], sd...)
+	}
 	return e, nil
 }
 
 // Invert finds the most probable pixelated source for the normal system nm
 // with the given prior, on grid g (for the flux weights), at a fixed λ or
 // at the λ that maximises the evidence: a walk in steps of 2 in ln λ from
-// λ0 = tr F / tr R brackets the maximum, and golden-section search with
-// parabolic steps (Brent 1973, Algorithms for Minimization without
-// Derivatives, ch. 5) refines it to Tol in ln λ.
+// λ0 = tr F / tr R (or in steps of 0.5 from LambdaStart) brackets the
+// maximum, and successive parabolic interpolation with golden-section
+// safeguards refines it to Tol in ln λ.
 //
 // The system is solved by dense Cholesky factorisation (gonum mat). For
 // more than a few thousand nodes use SolveCG at a fixed λ.
@@ -181,12 +194,20 @@ func Invert(nm *Normal, prior *Prior, g *PixelGrid, mp *Mapping, opt InvertOptio
 			return nil, err
 		}
 	}
-	ev, err := sv.eval(lambda)
-	if err != nil {
-		return nil, err
+	var ev Evidence
+	if opt.NoErrors && sv.best.s != nil && sv.best.lambda == lambda {
+		ev = sv.best.ev // the factor is not needed again
+	} else {
+		var err error
+		if ev, err = sv.eval(lambda); err != nil {
+			return nil, err
+		}
 	}
 	inv := &Inversion{Source: make([]float64, n), Lambda: lambda, Evidence: ev, Neff: math.NaN()}
-	copy(inv.Source, sv.s.RawVector().Data)
+	copy(inv.Source, sv.best.s)
+	if sv.best.lambda != lambda {
+		copy(inv.Source, sv.s.RawVector().Data)
+	}
 	w := g.Weights()
 	for k, s := range inv.Source {
 		inv.Flux += s * w[k]
@@ -241,7 +262,7 @@ func (sv *solver) maximise(opt InvertOptions) (float64, error) {
 	}
 	tol := opt.Tol
 	if tol == 0 {
-		tol = 0.02
+		tol = 0.05
 	}
 	var firstErr error
 	f := func(t float64) float64 {
@@ -254,14 +275,18 @@ func (sv *solver) maximise(opt InvertOptions) (float64, error) {
 		}
 		return -e.LogEvidence
 	}
+	step := 2.0
+	if opt.LambdaStart > 0 {
+		t0, step = math.Log(opt.LambdaStart), 0.5
+	}
 	t0 = min(max(t0, lo), hi)
-	// Bracket the minimum of −ln ε by walking downhill in steps of 2.
-	a, b := t0, min(t0+2, hi)
+	// Bracket the minimum of −ln ε by walking downhill.
+	a, b := t0, min(t0+step, hi)
 	fa, fb := f(a), f(b)
 	if fb > fa {
 		a, b, fa, fb = b, a, fb, fa
 	}
-	step := b - a
+	step = b - a
 	c := min(max(b+step, lo), hi)
 	fc := f(c)
 	for fc < fb && c != lo && c != hi {
@@ -279,77 +304,56 @@ func (sv *solver) maximise(opt InvertOptions) (float64, error) {
 		return 0, firstErr
 	}
 	if a > c {
-		a, c = c, a
+		a, c, fa, fc = c, a, fc, fa
 	}
-	t := brentMin(f, a, b, c, fb, tol)
+	t := parabolicMin(f, a, b, c, fa, fb, fc, tol)
 	return math.Exp(t), nil
 }
 
-// brentMin minimises f on [a, c] given b inside with f(b) = fb below both
-// ends, by Brent's method to absolute tolerance tol (Brent 1973, ch. 5).
-func brentMin(f func(float64) float64, a, b, c, fb, tol float64) float64 {
+// parabolicMin minimises f on the bracket a < b < c, f(b) below f(a) and
+// f(c), by successive parabolic interpolation, falling back to a golden
+// section step when the parabola's vertex is not well inside the bracket
+// (Brent 1973, Algorithms for Minimization without Derivatives, ch. 5). It
+// stops when the next step would move the best point by less than tol,
+// returning the best point evaluated.
+func parabolicMin(f func(float64) float64, a, b, c, fa, fb, fc, tol float64) float64 {
 	const cgold = 0.3819660112501051
-	x, w, v := b, b, b
-	fx, fw, fv := fb, fb, fb
-	var d, e float64
-	for range 100 {
-		m := (a + c) / 2
-		tol1 := tol/3 + 1e-12*math.Abs(x)
-		if math.Abs(x-m) <= 2*tol1-(c-a)/2 {
+	for range 50 {
+		if c-a < 2*tol {
 			break
 		}
-		parabolic := false
-		if math.Abs(e) > tol1 {
-			r := (x - w) * (fx - fv)
-			q := (x - v) * (fx - fw)
-			p := (x-v)*q - (x-w)*r
-			q = 2 * (q - r)
-			if q > 0 {
-				p = -p
-			}
-			q = math.Abs(q)
-			if math.Abs(p) < math.Abs(q*e/2) && p > q*(a-x) && p < q*(c-x) {
-				e, d = d, p/q
-				parabolic = true
-				if u := x + d; u-a < 2*tol1 || c-u < 2*tol1 {
-					d = math.Copysign(tol1, m-x)
-				}
-			}
+		// Vertex of the parabola through the three points.
+		p := (b-a)*(b-a)*(fb-fc) - (b-c)*(b-c)*(fb-fa)
+		q := 2 * ((b-a)*(fb-fc) - (b-c)*(fb-fa))
+		u := math.NaN()
+		if q != 0 {
+			u = b - p/q
 		}
-		if !parabolic {
-			if x >= m {
-				e = a - x
+		if !(u > a+tol/2 && u < c-tol/2) {
+			// Golden section into the larger part.
+			if b-a > c-b {
+				u = b - cgold*(b-a)
 			} else {
-				e = c - x
+				u = b + cgold*(c-b)
 			}
-			d = cgold * e
-		}
-		u := x + d
-		if math.Abs(d) < tol1 {
-			u = x + math.Copysign(tol1, d)
+		} else if math.Abs(u-b) < tol {
+			break
 		}
 		fu := f(u)
-		if fu <= fx {
-			if u >= x {
-				a = x
+		if fu < fb {
+			if u < b {
+				c, fc = b, fb
 			} else {
-				c = x
+				a, fa = b, fb
 			}
-			v, fv, w, fw, x, fx = w, fw, x, fx, u, fu
+			b, fb = u, fu
+		} else if u < b {
+			a, fa = u, fu
 		} else {
-			if u < x {
-				a = u
-			} else {
-				c = u
-			}
-			if fu <= fw || w == x {
-				v, fv, w, fw = w, fw, u, fu
-			} else if fu <= fv || v == x || v == w {
-				v, fv = u, fu
-			}
+			c, fc = u, fu
 		}
 	}
-	return x
+	return b
 }
 
 // SolveCG returns the most probable source at a fixed λ by conjugate
