@@ -90,10 +90,32 @@ func SersicB(n float64) float64 {
 	return b
 }
 
+// Validate reports a Sérsic parameter outside its domain: a non-finite
+// value, Reff ≤ 0, n outside (0, 20] or q outside (0, 1].
+func (s Sersic) Validate() error {
+	for _, p := range []struct {
+		name string
+		v    float64
+	}{{"x", s.X}, {"y", s.Y}, {"flux", s.Flux}, {"r_eff", s.Reff}, {"n", s.N}, {"q", s.Q}, {"pa", s.PA}, {"alpha", s.Alpha}} {
+		if math.IsNaN(p.v) || math.IsInf(p.v, 0) {
+			return fmt.Errorf("sersic: %s = %v is not finite", p.name, p.v)
+		}
+	}
+	switch {
+	case !(s.Reff > 0):
+		return fmt.Errorf("sersic: r_eff = %v arcsec, want > 0", s.Reff)
+	case !(s.N > 0 && s.N <= 20):
+		return fmt.Errorf("sersic: n = %v, want in (0, 20]", s.N)
+	case !(s.Q > 0 && s.Q <= 1):
+		return fmt.Errorf("sersic: q = %v, want in (0, 1]", s.Q)
+	}
+	return nil
+}
+
 // check panics if the parameters are not a valid Sérsic profile.
 func (s Sersic) check() {
-	if !(s.Reff > 0) || !(s.N > 0) || !(s.Q > 0 && s.Q <= 1) {
-		panic(fmt.Sprintf("source: invalid Sérsic (Reff %v, n %v, q %v): need Reff > 0, n > 0, 0 < q ≤ 1", s.Reff, s.N, s.Q))
+	if err := s.Validate(); err != nil {
+		panic("source: " + err.Error())
 	}
 }
 
@@ -180,9 +202,29 @@ type Gaussian struct {
 // fwhmPerSigma is 2√(2 ln 2).
 var fwhmPerSigma = 2 * math.Sqrt(2*math.Ln2)
 
+// Validate reports a Gaussian parameter outside its domain: a non-finite
+// value, FWHM ≤ 0 or q outside (0, 1].
+func (g Gaussian) Validate() error {
+	for _, p := range []struct {
+		name string
+		v    float64
+	}{{"x", g.X}, {"y", g.Y}, {"flux", g.Flux}, {"fwhm", g.FWHM}, {"q", g.Q}, {"pa", g.PA}, {"alpha", g.Alpha}} {
+		if math.IsNaN(p.v) || math.IsInf(p.v, 0) {
+			return fmt.Errorf("gaussian: %s = %v is not finite", p.name, p.v)
+		}
+	}
+	switch {
+	case !(g.FWHM > 0):
+		return fmt.Errorf("gaussian: fwhm = %v arcsec, want > 0", g.FWHM)
+	case !(g.Q > 0 && g.Q <= 1):
+		return fmt.Errorf("gaussian: q = %v, want in (0, 1]", g.Q)
+	}
+	return nil
+}
+
 func (g Gaussian) check() {
-	if !(g.FWHM > 0) || !(g.Q > 0 && g.Q <= 1) {
-		panic(fmt.Sprintf("source: invalid Gaussian (FWHM %v, q %v): need FWHM > 0, 0 < q ≤ 1", g.FWHM, g.Q))
+	if err := g.Validate(); err != nil {
+		panic("source: " + err.Error())
 	}
 }
 
@@ -216,6 +258,19 @@ type Point struct {
 	Alpha float64 // spectral index, S_ν ∝ ν^α
 }
 
+// Validate reports a non-finite Point parameter.
+func (p Point) Validate() error {
+	for _, q := range []struct {
+		name string
+		v    float64
+	}{{"x", p.X}, {"y", p.Y}, {"flux", p.Flux}, {"alpha", p.Alpha}} {
+		if math.IsNaN(q.v) || math.IsInf(q.v, 0) {
+			return fmt.Errorf("point: %s = %v is not finite", q.name, q.v)
+		}
+	}
+	return nil
+}
+
 // Brightness returns 0: a point has no extended surface brightness.
 func (p Point) Brightness(x, y float64) float64 { return 0 }
 
@@ -238,6 +293,25 @@ func (p Point) SpectralIndex() float64 { return p.Alpha }
 type Source struct {
 	Components []Component
 	RefFreq    float64 // reference frequency ν0, Hz; 0 disables spectral scaling
+}
+
+// Validate calls Validate on every component that has one and returns the
+// first error, with the component's index; it also checks RefFreq.
+func (s Source) Validate() error {
+	if math.IsNaN(s.RefFreq) || math.IsInf(s.RefFreq, 0) || s.RefFreq < 0 {
+		return fmt.Errorf("source: reference frequency %v Hz, want ≥ 0 (0 disables spectral scaling)", s.RefFreq)
+	}
+	for i, c := range s.Components {
+		if c == nil {
+			return fmt.Errorf("source component %d is nil", i)
+		}
+		if v, ok := c.(interface{ Validate() error }); ok {
+			if err := v.Validate(); err != nil {
+				return fmt.Errorf("source component %d: %w", i, err)
+			}
+		}
+	}
+	return nil
 }
 
 // SpectralFactor returns (nu/RefFreq)^alpha, or 1 when RefFreq or nu is 0.

@@ -193,3 +193,28 @@ func TestSersicScale(t *testing.T) {
 		within(t, fmt.Sprint("flux inside Scale, n=", n), got, 0.05, 1e-9)
 	}
 }
+
+func TestValidate(t *testing.T) {
+	for _, tc := range []struct {
+		name string
+		src  Source
+		want string // "" for valid
+	}{
+		{"valid", Source{RefFreq: 1e11, Components: []Component{Sersic{Flux: 1, Reff: 0.1, N: 1, Q: 1}, Gaussian{FWHM: 0.1, Q: 0.5}, Point{}}}, ""},
+		{"Sérsic r_eff", Source{Components: []Component{Sersic{Reff: 0, N: 1, Q: 1}}}, "source component 0: sersic: r_eff = 0 arcsec, want > 0"},
+		{"Sérsic n", Source{Components: []Component{Sersic{Reff: 1, N: -1, Q: 1}}}, "source component 0: sersic: n = -1, want in (0, 20]"},
+		{"Gaussian q", Source{Components: []Component{Point{}, Gaussian{FWHM: 1, Q: 1.5}}}, "source component 1: gaussian: q = 1.5, want in (0, 1]"},
+		{"point NaN", Source{Components: []Component{Point{X: math.NaN()}}}, "source component 0: point: x = NaN is not finite"},
+		{"frequency", Source{RefFreq: -1}, "source: reference frequency -1 Hz, want ≥ 0 (0 disables spectral scaling)"},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			err := tc.src.Validate()
+			switch {
+			case tc.want == "" && err != nil:
+				t.Errorf("unexpected error %v", err)
+			case tc.want != "" && (err == nil || err.Error() != tc.want):
+				t.Errorf("error %v, want %q", err, tc.want)
+			}
+		})
+	}
+}
