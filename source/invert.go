@@ -68,7 +68,8 @@ type InvertOptions struct {
 	Tol float64
 	// DataLogNorm is the log normalisation of the data likelihood, which
 	// the compressed χ² does not carry: Σ_k ln(w_k/(2π)) over the complex
-	// visibilities (two real parts each of variance 1/w_k). It is added to
+	// visibilities (two real parts each of variance 1/w_k), summed over the
+	// measurements (the uv package's Compressed.LogNorm). It is added to
 	// ln ε so that evidences of different data or weights compare; 0 leaves
 	// it out.
 	DataLogNorm float64
