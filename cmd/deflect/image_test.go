@@ -10,6 +10,7 @@ import (
 	"strings"
 	"testing"
 
+	"deflect/plots"
 	"deflect/uv"
 )
 
@@ -69,16 +70,11 @@ func TestImageCommand(t *testing.T) {
 	if best%64 != 26 || best/64 != 35 || math.Abs(im.Data[best]-0.002) > 1e-6 {
 		t.Errorf("peak %v at (%d, %d), want 0.002 at (26, 35)", im.Data[best], best%64, best/64)
 	}
-	for _, f := range []string{"sim.dirty.png", "sim.beam.png"} {
-		fh, err := os.Open(filepath.Join(out, f))
-		if err != nil {
-			t.Fatal(err)
-		}
-		cfg, err := png.DecodeConfig(fh)
-		fh.Close()
-		if err != nil || cfg.Width < 300 || cfg.Height < 300 {
-			t.Errorf("%s: %v, %dx%d", f, err, cfg.Width, cfg.Height)
-		}
+	// One figure of two panels at page width (7 × 3.1 in at plots.DPI),
+	// not blank.
+	checkPNG(t, filepath.Join(out, "sim.dirty.png"), 7*plots.DPI, int(math.Ceil(3.1*plots.DPI)))
+	if _, err := os.Stat(filepath.Join(out, "sim.beam.png")); err == nil {
+		t.Error("a separate beam figure was written")
 	}
 	if _, err := uv.ReadFITSImage(filepath.Join(out, "sim.beam.fits")); err != nil {
 		t.Error(err)
@@ -93,6 +89,17 @@ func TestImageCommand(t *testing.T) {
 	}
 	if b, err := os.ReadFile(filepath.Join(out, "sim.dirty.svg")); err != nil || !bytes.Contains(b, []byte("<svg")) {
 		t.Errorf("svg figure: %v", err)
+	}
+	// An existing but empty directory is fine; once written, it is refused.
+	fresh := filepath.Join(dir, "fresh")
+	if err := os.MkdirAll(fresh, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	if code := runMain([]string{"image", table, "-o", fresh, "--pixel", "0.1", "--size", "64"}, &so, &se); code != 0 {
+		t.Fatalf("empty existing directory: exit %d: %s", code, se.String())
+	}
+	if code := runMain([]string{"image", table, "-o", fresh, "--pixel", "0.1", "--size", "64"}, &so, &se); code != 1 {
+		t.Errorf("non-empty directory without --force: exit %d, want 1", code)
 	}
 }
 
@@ -120,5 +127,83 @@ func TestImageUsage(t *testing.T) {
 	var so, se bytes.Buffer
 	if code := runMain([]string{"image", filepath.Join(dir, "missing.csv"), "-o", filepath.Join(dir, "e")}, &so, &se); code != 1 {
 		t.Errorf("missing file: exit %d, want 1", code)
+	}
+}
+
+// checkPNG fails unless path is a PNG of w×h pixels (±1) with more than a
+// handful of distinct colours (not blank).
+func checkPNG(t *testing.T, path string, w, h int) {
+	t.Helper()
+	fh, err := os.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer fh.Close()
+	img, err := png.Decode(fh)
+	if err != nil {
+		t.Fatalf("%s: %v", path, err)
+	}
+	b := img.Bounds()
+	if abs := func(a int) int { return max(a, -a) }; abs(b.Dx()-w) > 1 || abs(b.Dy()-h) > 1 {
+		t.Errorf("%s: %d×%d pixels, want %d×%d", path, b.Dx(), b.Dy(), w, h)
+	}
+	colours := map[[3]uint32]bool{}
+	for y := b.Min.Y; y < b.Max.Y && len(colours) < 50; y += 7 {
+		for x := b.Min.X; x < b.Max.X; x += 7 {
+			r, g, bb, _ := img.At(x, y).RGBA()
+			colours[[3]uint32{r, g, bb}] = true
+		}
+	}
+	if len(colours) < 50 {
+		t.Errorf("%s: only %d colours: blank figure?", path, len(colours))
+	}
+}
+
+// Streaming the table gives MakeDirty's image of the table read whole, for
+// the weighting that needs two passes, and the default grid is inspect's
+// suggestion (uv.Summarize). (Tables of many chunks are compared in
+// package uv's TestMakeDirtyStreamMatchesMakeDirty.)
+func TestImageStreamsLikeInMemory(t *testing.T) {
+	dir := t.TempDir()
+	table := pointTable(t, dir)
+	d, rep, err := uv.ReadFile(table, uv.ReadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := uv.Summarize(d, rep)
+	wantGrid, _ := imageGrid(s, 0, 0)
+	opt := uv.ImagingOptions{Weighting: uv.Briggs, Robust: 0.5}
+	want, err := uv.MakeDirty(d, wantGrid, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(dir, "out")
+	var so, se bytes.Buffer
+	args := []string{"image", table, "-o", out, "--weighting", "briggs", "--robust", "0.5", "--format", "pdf"}
+	if code := runMain(args, &so, &se); code != 0 {
+		t.Fatalf("exit %d: %s", code, se.String())
+	}
+	im, err := uv.ReadFITSImage(filepath.Join(out, "sim.dirty.fits"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if im.Grid != wantGrid {
+		t.Fatalf("grid %+v, inspect suggests %+v", im.Grid, wantGrid)
+	}
+	peak := 0.0
+	for _, v := range want.Image {
+		peak = math.Max(peak, math.Abs(v))
+	}
+	for k := range want.Image {
+		// FITS stores float64 images; the streamed sums differ in order only.
+		if math.Abs(im.Data[k]-want.Image[k]) > 1e-12*peak {
+			t.Fatalf("pixel %d: %v, in memory %v", k, im.Data[k], want.Image[k])
+		}
+	}
+	if b, err := os.ReadFile(filepath.Join(out, "sim.dirty.pdf")); err != nil || !bytes.HasPrefix(b, []byte("%PDF")) {
+		t.Errorf("pdf figure: %v", err)
+	}
+	if !strings.Contains(so.String(), "1500 rows, 1500 visibilities imaged") {
+		t.Errorf("output: %s", so.String())
 	}
 }
