@@ -31,14 +31,15 @@ type RenderOptions struct {
 	// pixels; 0 means 1e-3.
 	Tol float64
 	// MaxDepth is the largest number of halvings of a pixel side; 0 means 6
-	// (sub-pixels 1/64 of a pixel on a side).
+	// (cells 1/64 of a pixel on a side, each sampled at the centres of its
+	// four quarters).
 	MaxDepth int
 }
 
 // RenderStats reports the work Render did.
 type RenderStats struct {
 	Rays     int // number of ray-traced positions
-	MaxDepth int // deepest subdivision reached
+	MaxDepth int // deepest level of quarter samples, at most RenderOptions.MaxDepth + 1
 }
 
 // Render writes into dst the sky image in Jy per pixel of the extended
