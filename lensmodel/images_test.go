@@ -318,3 +318,27 @@ func TestFindImagesFarSource(t *testing.T) {
 		t.Errorf("image at r = %g, want (|β| + θ_E)/(1 − κ) ≈ %g", r, (10+0.2)/0.4)
 	}
 }
+
+// TestFindImagesPointMassDelay: the arrival-time difference of the two
+// images of a point lens is, in units of θ_E²,
+// Δφ = ½ u √(u² + 4) + ln[(√(u² + 4) + u)/(√(u² + 4) − u)], u = β/θ_E
+// (Schneider, Ehlers & Falco 1992, sect. 8.1.2, from memory); tolerance
+// 1e-9 relative.
+func TestFindImagesPointMassDelay(t *testing.T) {
+	const thetaE = 0.9
+	m := PointMass{ThetaE: thetaE}
+	for _, u := range []float64{0.1, 0.7, 2.5} {
+		res, err := FindImages(m, u*thetaE, 0, ImageOptions{DelayScale: 1})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(res.Images) != 2 {
+			t.Fatalf("u = %g: %d images, want 2", u, len(res.Images))
+		}
+		s := math.Sqrt(u*u + 4)
+		want := thetaE * thetaE * (0.5*u*s + math.Log((s+u)/(s-u)))
+		if d := res.Images[1].Delay; math.Abs(d-want) > 1e-9*want {
+			t.Errorf("u = %g: Δφ = %.12g, want %.12g", u, d, want)
+		}
+	}
+}

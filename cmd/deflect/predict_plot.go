@@ -30,6 +30,19 @@ var (
 // parity, open for saddles), in arcsec with east to the left and north up
 // at equal aspect.
 func predictPlot(w io.Writer, curves []lensmodel.Curve, r *predictResult) error {
+	p, err := predictPlotMake(curves, r)
+	if err != nil {
+		return err
+	}
+	const side = 5 * vg.Inch
+	c := vgimg.NewWith(vgimg.UseWH(side, side), vgimg.UseDPI(144))
+	p.Draw(draw.New(c))
+	_, err = vgimg.PngCanvas{Canvas: c}.WriteTo(w)
+	return err
+}
+
+// predictPlotMake builds the figure of predictPlot.
+func predictPlotMake(curves []lensmodel.Curve, r *predictResult) (*plot.Plot, error) {
 	p := plot.New()
 	p.Title.Text = fmt.Sprintf("source (%.3g, %.3g)″: %d images", r.SourceX, r.SourceY, len(r.Images))
 	p.X.Label.Text = "x (arcsec, east ←)"
@@ -59,7 +72,7 @@ func predictPlot(w io.Writer, curves []lensmodel.Curve, r *predictResult) error 
 			}
 			l, err := plotter.NewLine(xy)
 			if err != nil {
-				return err
+				return nil, err
 			}
 			l.Width = vg.Points(1)
 			l.Color = predictCriticalColour
@@ -87,7 +100,7 @@ func predictPlot(w io.Writer, curves []lensmodel.Curve, r *predictResult) error 
 		}
 		s, err := plotter.NewScatter(xy)
 		if err != nil {
-			return err
+			return nil, err
 		}
 		s.GlyphStyle = draw.GlyphStyle{Color: predictImageColour, Radius: vg.Points(3.5), Shape: draw.CircleGlyph{}}
 		label := "images, μ > 0"
@@ -100,7 +113,7 @@ func predictPlot(w io.Writer, curves []lensmodel.Curve, r *predictResult) error 
 	}
 	src, err := plotter.NewScatter(plotter.XYs{{X: cx[0], Y: cy[0]}})
 	if err != nil {
-		return err
+		return nil, err
 	}
 	src.GlyphStyle = draw.GlyphStyle{Color: predictSourceColour, Radius: vg.Points(4), Shape: draw.CrossGlyph{}}
 	p.Add(src)
@@ -136,10 +149,5 @@ func predictPlot(w io.Writer, curves []lensmodel.Curve, r *predictResult) error 
 	p.X.Min, p.X.Max = mx-half, mx+half
 	p.Y.Min, p.Y.Max = my-half, my+half
 	p.Add(plotter.NewGrid())
-
-	const side = 5 * vg.Inch
-	c := vgimg.NewWith(vgimg.UseWH(side, side), vgimg.UseDPI(144))
-	p.Draw(draw.New(c))
-	_, err = vgimg.PngCanvas{Canvas: c}.WriteTo(w)
-	return err
+	return p, nil
 }

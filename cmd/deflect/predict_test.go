@@ -11,6 +11,7 @@ import (
 	"testing"
 
 	"github.com/pelletier/go-toml/v2"
+	"gonum.org/v1/plot"
 
 	"deflect/lensmodel"
 )
@@ -95,6 +96,40 @@ q = 1.0
 	}
 	if b := img.Bounds(); b.Dx() != 720 || b.Dy() != 720 {
 		t.Errorf("PNG is %v, want 720×720", b)
+	}
+	// The critical curve, the circle r = θ_E, is drawn: count pixels near
+	// its colour (anti-aliased).
+	var curve int
+	bb := img.Bounds()
+	near := func(a uint32, b uint8) bool { return math.Abs(float64(a>>8)-float64(b)) < 40 }
+	for y := bb.Min.Y; y < bb.Max.Y; y++ {
+		for x := bb.Min.X; x < bb.Max.X; x++ {
+			r, g, b, _ := img.At(x, y).RGBA()
+			if near(r, predictCriticalColour.R) && near(g, predictCriticalColour.G) && near(b, predictCriticalColour.B) {
+				curve++
+			}
+		}
+	}
+	if curve < 300 {
+		t.Errorf("%d pixels of the critical-curve colour, want a drawn circle", curve)
+	}
+	// East left, north up, equal aspect.
+	curves, err := lensmodel.CriticalCurves(lensmodel.SIE{ThetaE: thetaE, Q: 1}, lensmodel.CurveOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	p, err := predictPlotMake(curves, &res)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, ok := p.X.Scale.(plot.InvertedScale); !ok {
+		t.Errorf("x axis scale %T, want plot.InvertedScale (east left)", p.X.Scale)
+	}
+	if _, ok := p.Y.Scale.(plot.InvertedScale); ok {
+		t.Error("y axis inverted, want north up")
+	}
+	if math.Abs((p.X.Max-p.X.Min)-(p.Y.Max-p.Y.Min)) > 1e-12 {
+		t.Errorf("axis spans %g and %g, want equal", p.X.Max-p.X.Min, p.Y.Max-p.Y.Min)
 	}
 	// A second run into the same directory is refused without --force.
 	if _, stderr, code := runPredict(t, model, "--source", "0.3,0", "-o", out); code != 1 || !strings.Contains(stderr, "not empty") {
