@@ -19,11 +19,15 @@ func init() {
 		field   float64
 		freq    float64
 		dish    float64
+		// --plots DIR: figures (inspect_plot.go).
+		plotDir    string
+		plotFormat string
+		plotForce  bool
 	)
 	register(&command{
 		name:    "inspect",
 		summary: "summarise visibility tables: coverage, scales, weights, a suggested grid",
-		usage:   "FILE... [--json] [--skip-bad] [--field ARCSEC] [--freq HZ] [--dish M]",
+		usage:   "FILE... [--json] [--skip-bad] [--field ARCSEC] [--freq HZ] [--dish M] [--plots DIR [--format png|pdf|svg] [--force]]",
 		help: `Reads each visibility table (text, .gz or FITS; one dataset per file) and
 reports the rows read, used, flagged and excluded (and why), the frequency
 range, the uv-distance range in kλ, the shortest and longest baselines, the
@@ -41,13 +45,28 @@ phase π|w|θ² reaches 0.1 rad: θ = √(0.1/(π |w|max)).
 The weight check compares the stated weights with the scatter of the data:
 successive differences on each baseline and channel in time order where the
 table has ant1 and ant2, otherwise the imaginary parts on the longest
-baselines. "factor" is the ratio of true to stated weights.`,
+baselines. "factor" is the ratio of true to stated weights.
+
+With --plots DIR, also writes figures to DIR (refused when not empty
+without --force), as PNG or, with --format, PDF or SVG:
+
+  uv-coverage.png          (u, v) and (−u, −v) of every dataset in kλ, one
+                           colour per dataset, +u (east) to the left
+  LABEL.vis-reim.png       per dataset: real and imaginary parts against uv
+                           distance, weighted means in 16 bins with 1σ errors
+  LABEL.vis-ampphase.png   the same bins as amplitude and phase
+
+Flagged rows are left out; the coverage figure keeps at most 200 000
+evenly spaced rows per dataset.`,
 		setFlags: func(fs *flag.FlagSet) {
 			fs.BoolVar(&asJSON, "json", false, "print JSON (one object per file, in an array) for scripts")
 			fs.BoolVar(&skipBad, "skip-bad", false, "skip bad rows, counting them, instead of failing")
 			fs.Float64Var(&field, "field", 0, "field `ARCSEC` (full width) the suggested grid covers (default: the primary-beam FWHM)")
 			fs.Float64Var(&freq, "freq", 0, "frequency in `HZ` for tables without one (overrides # freq:)")
 			fs.Float64Var(&dish, "dish", 0, "antenna diameter in `M`etres (overrides # dish:)")
+			fs.StringVar(&plotDir, "plots", "", "write the uv-coverage and visibility figures to `DIR`")
+			fs.StringVar(&plotFormat, "format", "png", "figure format with --plots: png, pdf or svg")
+			fs.BoolVar(&plotForce, "force", false, "with --plots, write into a non-empty DIR, replacing files")
 		},
 		run: func(env *runEnv, args []string) error {
 			if len(args) == 0 {
@@ -60,6 +79,20 @@ baselines. "factor" is the ratio of true to stated weights.`,
 				if f.v < 0 || math.IsNaN(f.v) || math.IsInf(f.v, 0) {
 					return usagef("%s must be a positive number, got %v", f.name, f.v)
 				}
+			}
+			var figs *inspectPlots
+			if plotDir != "" {
+				switch plotFormat {
+				case "png", "pdf", "svg":
+				default:
+					return usagef("--format %q: want png, pdf or svg", plotFormat)
+				}
+				var err error
+				if figs, err = newInspectPlots(plotDir, plotFormat, plotForce); err != nil {
+					return err
+				}
+			} else if isSet(env.flags, "format") || plotForce {
+				return usagef("--format and --force go with --plots DIR")
 			}
 			opt := uv.ReadOptions{SkipBad: skipBad, Meta: uv.Meta{Freq: freq, Dish: dish}}
 			var sums []uv.Summary
@@ -76,6 +109,11 @@ baselines. "factor" is the ratio of true to stated weights.`,
 					s.SetField(field)
 				}
 				sums = append(sums, s)
+				if figs != nil {
+					if err := figs.add(env.stderr, d, path); err != nil {
+						return err
+					}
+				}
 			}
 			if asJSON {
 				if sums == nil {
@@ -92,6 +130,15 @@ baselines. "factor" is the ratio of true to stated weights.`,
 						fmt.Fprintln(env.stdout)
 					}
 					writeSummary(env.stdout, &s, field > 0)
+				}
+			}
+			if figs != nil {
+				out := env.stdout
+				if asJSON {
+					out = env.stderr // keep stdout pure JSON
+				}
+				if err := figs.finish(out); err != nil {
+					return err
 				}
 			}
 			if failed > 0 {
