@@ -32,6 +32,7 @@ const (
 	Cut
 )
 
+// String returns "tangential", "radial" or "cut".
 func (k CurveKind) String() string {
 	switch k {
 	case Tangential:

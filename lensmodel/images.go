@@ -105,12 +105,15 @@ func singularity(m Mass, c Centre) singularKind {
 // of the Fermat potential.
 type ImageKind int
 
+// The kinds of image, from the eigenvalues of A (Schneider, Ehlers & Falco
+// 1992, sect. 5.4).
 const (
 	Minimum ImageKind = iota // det A > 0, tr A > 0: positive parity
 	Saddle                   // det A < 0: negative parity
 	Maximum                  // det A > 0, tr A < 0: positive parity (central images)
 )
 
+// String returns "minimum", "saddle" or "maximum".
 func (k ImageKind) String() string {
 	switch k {
 	case Minimum:
