@@ -63,11 +63,12 @@ type CurveOptions struct {
 	// means automatic: the smallest radius R = 0.5·2ⁿ″ about the centre at
 	// which both the circles R and 2R have 1 − κ − γ > 0.2 everywhere (so
 	// no tangential curve crosses them), times 1.25, enlarged to include
-	// every centre of a Centred lens.
+	// every component centre.
 	HalfWidth float64
-	// Grid is the number of base cells per side; 0 means 64.
+	// Grid is the number of base cells per side, at most 512; 0 means 64.
 	Grid int
-	// Depth is the number of quadtree refinements of a base cell; 0 means
+	// Depth is the number of quadtree refinements of a base cell, at most
+	// 14; 0 means
 	// 5, a finest spacing of 2·HalfWidth/(Grid·2^Depth).
 	Depth int
 	// VarTol is the relative variation of det A within a cell above which
@@ -357,8 +358,8 @@ func (o CurveOptions) settings(m Mass, centres []Centre) (curveSettings, error) 
 		s.maxCells = 4000000
 	}
 	switch {
-	case s.grid < 2 || s.grid > 4096:
-		return s, fmt.Errorf("lensmodel: critical curves: Grid = %d, want 2…4096", o.Grid)
+	case s.grid < 2 || s.grid > 512:
+		return s, fmt.Errorf("lensmodel: critical curves: Grid = %d, want 2…512", o.Grid)
 	case s.depth < 0 || s.depth > 14:
 		return s, fmt.Errorf("lensmodel: critical curves: Depth = %d, want 0…14", o.Depth)
 	case !(s.half >= 0) || math.IsInf(s.half, 0):
@@ -396,8 +397,8 @@ func (s curveSettings) newGrid(m, fast Mass, withBeta bool) *grid {
 //
 // det A is sampled on an adaptive quadtree over a square (CurveOptions):
 // base cells are split where det A changes sign among nine samples, where it
-// varies by more than VarTol·(1 + min |det A|), and at the centres of a
-// Centred lens, down to the finest level. On the finest cells the zero
+// varies by more than VarTol·(1 + min |det A|), and at the centres of the
+// lens components (see Centred), down to the finest level. On the finest cells the zero
 // contour is traced by marching squares (saddle cells resolved by the value
 // at the cell centre); each crossing is polished onto det A = 0 by the
 // Illinois variant of regula falsi along its cell edge, so the points lie on

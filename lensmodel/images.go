@@ -146,9 +146,9 @@ type ImageOptions struct {
 	// HalfWidth 0 means automatic: CurveOptions' automatic half-width plus
 	// the source's distance from the centre.
 	CentreX, CentreY, HalfWidth float64
-	// Grid is the number of base cells per side; 0 means 64.
+	// Grid is the number of base cells per side, at most 512; 0 means 64.
 	Grid int
-	// Depth is the number of quadtree refinements; 0 means 10.
+	// Depth is the number of quadtree refinements, at most 14; 0 means 10.
 	Depth int
 	// DelayScale converts Fermat potential differences (arcsec²) into days,
 	// e.g. Cosmology.DelayScale(zl, zs); 0 leaves Delay zero.
