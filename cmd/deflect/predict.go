@@ -1,7 +1,6 @@
 package main
 
 import (
-	"bytes"
 	"encoding/json"
 	"errors"
 	"flag"
@@ -31,6 +30,7 @@ func init() {
 		flux      float64
 		outDir    string
 		force     bool
+		format    string
 		lenses    predictLensFlags
 		zl, zs    float64
 		h0, om    float64
@@ -39,7 +39,7 @@ func init() {
 	register(&command{
 		name:    "predict",
 		summary: "list the images of a point source behind a lens model, with μ, time delays and fluxes",
-		usage:   "MODEL --source X,Y [--flux MJY] [-o DIR] [--force] | --lens KIND:K=V,... [--zl Z --zs Z]",
+		usage:   "MODEL --source X,Y [--flux MJY] [-o DIR] [--force] [--format png|pdf|svg] | --lens KIND:K=V,... [--zl Z --zs Z]",
 		help: `Finds every image of a point source at --source (arcsec, x east, y north)
 behind the lens of MODEL, a model file with a [cosmology] table and [[lens]]
 tables of plain numbers (the fit model file; free parameters are taken at
@@ -64,14 +64,18 @@ and the projected mass inside it, M = π θ_E² Σ_cr. When a component's
 centre is singular (an SIE without core, a point mass, a steep cusp) the
 central image is infinitely demagnified, and the output says so.
 
-With -o DIR: writes predict.json with the same numbers and predict.png
-with the critical curves, caustics, source and images (east left, north
-up); a non-empty DIR is refused without --force.`,
+With -o DIR: writes predict.json with the same numbers and two figures
+(east left, north up, offsets in arcsec; PNG, or PDF or SVG with --format):
+predict.png, the lens plane with the critical curves and the images beside
+the source plane with the caustics and the source; and magnification.png,
+log10 |μ| on a 256² grid about the critical curves and images, with the
+critical curves. A non-empty DIR is refused without --force.`,
 		setFlags: func(fs *flag.FlagSet) {
 			fs.StringVar(&sourcePos, "source", "", "source position `X,Y` in arcsec (x east, y north); required")
 			fs.Float64Var(&flux, "flux", 1, "source flux in `MJY`")
-			fs.StringVar(&outDir, "o", "", "write predict.json and predict.png to `DIR`")
+			fs.StringVar(&outDir, "o", "", "write predict.json, predict.png and magnification.png to `DIR`")
 			fs.BoolVar(&force, "force", false, "write into a non-empty -o DIR, replacing files")
+			fs.StringVar(&format, "format", "png", "figure format with -o: png, pdf or svg")
 			lenses = nil // fs.Var keeps the old value; each run starts empty
 			fs.Var(&lenses, "lens", "a lens component `KIND:K=V,...` instead of MODEL (repeatable)")
 			fs.Float64Var(&zl, "zl", 0, "lens redshift with --lens (for time delays and masses)")
@@ -129,6 +133,11 @@ up); a non-empty DIR is refused without --force.`,
 			default:
 				return usagef("no MODEL file or --lens given")
 			}
+			switch format {
+			case "png", "pdf", "svg":
+			default:
+				return usagef("--format %q: want png, pdf or svg", format)
+			}
 			if outDir != "" {
 				if err := atomicfile.PrepareDir(outDir, force); err != nil {
 					return err
@@ -153,11 +162,8 @@ up); a non-empty DIR is refused without --force.`,
 			if err != nil {
 				return fmt.Errorf("critical curves for the figure: %w", err)
 			}
-			var png bytes.Buffer
-			if err := predictPlot(&png, curves, res); err != nil {
-				return err
-			}
-			return atomicfile.WriteBytes(filepath.Join(outDir, "predict.png"), force, png.Bytes())
+			_, err = writePredictFigures(outDir, format, force, pm.lens, curves, res)
+			return err
 		},
 	})
 }

@@ -3,7 +3,6 @@ package main
 import (
 	"bytes"
 	"encoding/json"
-	"image/png"
 	"math"
 	"os"
 	"path/filepath"
@@ -11,9 +10,9 @@ import (
 	"testing"
 
 	"github.com/pelletier/go-toml/v2"
-	"gonum.org/v1/plot"
 
 	"deflect/lensmodel"
+	"deflect/plots"
 )
 
 func runPredict(t *testing.T, args ...string) (stdout, stderr string, code int) {
@@ -85,52 +84,8 @@ q = 1.0
 	if m := math.Pi * thetaE * thetaE * c.SigmaCrit(0.5, 2); res.MassInside == nil || math.Abs(*res.MassInside-m) > 1e-9*m {
 		t.Errorf("mass inside θ_E %v, want %g", res.MassInside, m)
 	}
-	f, err := os.Open(filepath.Join(out, "predict.png"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	img, err := png.Decode(f)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if b := img.Bounds(); b.Dx() != 720 || b.Dy() != 720 {
-		t.Errorf("PNG is %v, want 720×720", b)
-	}
-	// The critical curve, the circle r = θ_E, is drawn: count pixels near
-	// its colour (anti-aliased).
-	var curve int
-	bb := img.Bounds()
-	near := func(a uint32, b uint8) bool { return math.Abs(float64(a>>8)-float64(b)) < 40 }
-	for y := bb.Min.Y; y < bb.Max.Y; y++ {
-		for x := bb.Min.X; x < bb.Max.X; x++ {
-			r, g, b, _ := img.At(x, y).RGBA()
-			if near(r, predictCriticalColour.R) && near(g, predictCriticalColour.G) && near(b, predictCriticalColour.B) {
-				curve++
-			}
-		}
-	}
-	if curve < 300 {
-		t.Errorf("%d pixels of the critical-curve colour, want a drawn circle", curve)
-	}
-	// East left, north up, equal aspect.
-	curves, err := lensmodel.CriticalCurves(lensmodel.SIE{ThetaE: thetaE, Q: 1}, lensmodel.CurveOptions{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	p, err := predictPlotMake(curves, &res)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if _, ok := p.X.Scale.(plot.InvertedScale); !ok {
-		t.Errorf("x axis scale %T, want plot.InvertedScale (east left)", p.X.Scale)
-	}
-	if _, ok := p.Y.Scale.(plot.InvertedScale); ok {
-		t.Error("y axis inverted, want north up")
-	}
-	if math.Abs((p.X.Max-p.X.Min)-(p.Y.Max-p.Y.Min)) > 1e-12 {
-		t.Errorf("axis spans %g and %g, want equal", p.X.Max-p.X.Min, p.Y.Max-p.Y.Min)
-	}
+	// The figures themselves are checked in predict_plot_test.go.
+	checkPNG(t, filepath.Join(out, "predict.png"), 7*plots.DPI, int(math.Ceil(3.2*plots.DPI)))
 	// A second run into the same directory is refused without --force.
 	if _, stderr, code := runPredict(t, model, "--source", "0.3,0", "-o", out); code != 1 || !strings.Contains(stderr, "not empty") {
 		t.Errorf("rerun into a non-empty directory: exit %d, %s", code, stderr)
