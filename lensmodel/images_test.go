@@ -152,8 +152,18 @@ func TestFindImagesOddNumber(t *testing.T) {
 				}
 				checkLensEquation(t, tc.m, bx, by, res.Images)
 			}
-			if counts[3] == 0 || counts[5] == 0 {
-				t.Errorf("image multiplicities %v: want sources with 3 and 5 images", counts)
+			// Five or more images need the source inside the small inner
+			// caustics, which the short run may miss.
+			var three, five int
+			for k, c := range counts {
+				if k >= 5 {
+					five += c
+				} else if k == 3 {
+					three += c
+				}
+			}
+			if three == 0 || (five == 0 && !testing.Short()) {
+				t.Errorf("image multiplicities %v: want sources with 3 and with 5 or more images", counts)
 			}
 			t.Logf("image multiplicities over %d sources: %v", n, counts)
 		})
