@@ -101,16 +101,19 @@ type nfwEval struct {
 	g      ellPot
 	ks     float64
 	invRs  float64
-	psiFac float64 // 2 κ_s r_s²
+	psiFac float64   // 2 κ_s r_s²
+	kp     nfwParams // constants of the assembly kernel (fast.go)
 }
 
 func (m NFW) eval() nfwEval {
-	return nfwEval{
+	e := nfwEval{
 		g:      newEllPot(m.X, m.Y, m.Q, m.PA),
 		ks:     m.KappaS,
 		invRs:  1 / m.Rs,
 		psiFac: 2 * m.KappaS * m.Rs * m.Rs,
 	}
+	e.fastParams()
+	return e
 }
 
 // nfwSeriesU bounds |1 − x²| below which F and (F − 1)/(1 − x²) are summed
@@ -180,6 +183,11 @@ func nfwPsi(x float64) float64 {
 }
 
 func (e *nfwEval) deflect(x, y float64) (ax, ay float64) {
+	if useAVX {
+		if ax, ay, ok := nfwOne(e, x, y); ok { // fast.go: the batch kernel's value
+			return ax, ay
+		}
+	}
 	xp, yp, r := e.g.radius(x, y)
 	if r == 0 {
 		return 0, 0
@@ -212,7 +220,11 @@ func (e *nfwEval) potential(x, y float64) float64 {
 
 func (e *nfwEval) addDeflect(ax, ay, x, y []float64) {
 	ax, ay, y = ax[:len(x)], ay[:len(x)], y[:len(x)]
-	for i := range x {
+	i := 0
+	if useAVX {
+		i = nfwFast(e, ax, ay, x, y) // fast.go
+	}
+	for ; i < len(x); i++ {
 		dx, dy := e.deflect(x[i], y[i])
 		ax[i] += dx
 		ay[i] += dy

@@ -95,13 +95,15 @@ func (m SIE) prepare() evaluator {
 // sieEval holds the SIE constants.
 type sieEval struct {
 	f      frame
-	b      float64 // θ_E √q
-	q2     float64 // q²
-	e      float64 // √(1 − q²)
-	be     float64 // b/e
-	s, q2s float64 // s, q² s
-	sphere bool    // q = 1
-	logN   float64 // ln((1+q)² s²), the potential's constant
+	b      float64   // θ_E √q
+	q2     float64   // q²
+	e      float64   // √(1 − q²)
+	be     float64   // b/e
+	s, q2s float64   // s, q² s
+	sphere bool      // q = 1
+	logN   float64   // ln((1+q)² s²), the potential's constant
+	fast   bool      // the assembly kernel applies (fast.go)
+	kp     sieParams // its constants
 }
 
 func (m SIE) eval() sieEval {
@@ -121,6 +123,7 @@ func (m SIE) eval() sieEval {
 	if e.s > 0 {
 		e.logN = 2 * math.Log((1+q)*e.s)
 	}
+	e.fastParams()
 	return e
 }
 
@@ -162,6 +165,9 @@ func (e *sieEval) local(xp, yp float64) (a1, a2 float64) {
 const sieLogE = 0.05
 
 func (e *sieEval) deflect(x, y float64) (ax, ay float64) {
+	if e.fast && useAVX {
+		return sieOne(e, x, y) // fast.go: the batch kernel's value
+	}
 	xp, yp := e.f.local(x, y)
 	a1, a2 := e.local(xp, yp)
 	return e.f.vector(a1, a2)
@@ -206,7 +212,11 @@ func (e *sieEval) potential(x, y float64) float64 {
 
 func (e *sieEval) addDeflect(ax, ay, x, y []float64) {
 	ax, ay, y = ax[:len(x)], ay[:len(x)], y[:len(x)]
-	for i := range x {
+	i := 0
+	if e.fast && useAVX {
+		i = sieFast(e, ax, ay, x, y) // fast.go
+	}
+	for ; i < len(x); i++ {
 		dx, dy := e.deflect(x[i], y[i])
 		ax[i] += dx
 		ay[i] += dy

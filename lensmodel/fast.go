@@ -1,0 +1,51 @@
+package lensmodel
+
+// Batch deflection kernels. On amd64 CPUs with AVX2 and FMA the
+// isothermal ellipsoid (q < 1, e = √(1 − q²) ≥ sieLogE) and the NFW halo
+// inside R < r_s/2 are evaluated four points at a time by the assembly of
+// fast_amd64.s (written by gen_fast.go); elsewhere, and for the last
+// len%4 points of a call, the per-point methods are used. With the
+// kernels, the per-point deflection methods of these components call them
+// too, with the point in all four lanes, so that batch and per-point
+// values stay equal bit for bit. The kernels
+// follow the per-point formulas of sie.go and nfw.go with the elementary
+// functions written out:
+//
+//   - atan: the range reduction and rational approximation of Go's
+//     math.Atan (Cephes), the reduced argument formed as one quotient;
+//   - ln(A/B): A and B split into exponent and mantissa, the mantissas
+//     paired so that their ratio m lies in [1/√2, √2], and
+//     ln m = 2 atanh(s), s = (ma − mb)/(ma + mb), with the polynomial of
+//     Go's math.Log (FreeBSD e_log.c) — one division for quotient and
+//     logarithm together;
+//   - NFW, x = R/r_s < ½: 4h(x)/x² = (4/s) [ln(2/x)/p − 2S/d] with
+//     s = √(1 − x²), p = 1 + s, d = 4p − x², S = Σ_j z^{2j}/(2j + 1),
+//     z = x²/d ≤ 0.035 (seven terms), from ln1p(w) = 2 atanh(w/(2 + w)),
+//     w = −x²/(2p), in the small-x form of nfwH.
+//
+// fast_test.go bounds the difference between the kernels and the portable
+// formulas. Each point's value depends only on the point.
+
+// useAVX selects the assembly kernels; the tests turn it off to compare.
+var useAVX = haveAVX
+
+// sieParams are the constants of sieDeflectAVX, in the order of
+// gen_fast.go: x0, y0, sin PA, cos PA, q², s², s, q² s, e, e², b/e, b/(2e).
+type sieParams [12]float64
+
+// fastParams sets e.fast and e.kp.
+func (e *sieEval) fastParams() {
+	e.fast = !e.sphere && e.e >= sieLogE
+	e.kp = sieParams{e.f.x0, e.f.y0, e.f.s, e.f.c, e.q2, e.s * e.s,
+		e.s, e.q2s, e.e, e.e * e.e, e.be, 0.5 * e.be}
+}
+
+// nfwParams are the constants of nfwDeflectAVX: x0, y0, sin PA, cos PA,
+// a1 = 1 − ε, a2 = 1 + ε, 1/r_s, 2 r_s, 4κ_s.
+type nfwParams [9]float64
+
+func (e *nfwEval) fastParams() {
+	g := &e.g
+	e.kp = nfwParams{g.f.x0, g.f.y0, g.f.s, g.f.c, g.a1, g.a2,
+		e.invRs, 2 / e.invRs, 4 * e.ks}
+}

@@ -1,0 +1,98 @@
+//go:build amd64
+
+package lensmodel
+
+//go:generate go run gen_fast.go
+
+// cpuidex and xgetbv0 are in fast_amd64.s.
+func cpuidex(leaf, sub uint32) (a, b, c, d uint32)
+func xgetbv0() (eax uint32)
+
+// haveAVX reports whether the CPU and the operating system support AVX2 and
+// FMA, for the kernels of fast_amd64.s.
+var haveAVX = detectAVX()
+
+func detectAVX() bool {
+	maxLeaf, _, _, _ := cpuidex(0, 0)
+	if maxLeaf < 7 {
+		return false
+	}
+	_, _, c1, _ := cpuidex(1, 0)
+	const fma, osxsave, avx = 1 << 12, 1 << 27, 1 << 28
+	if c1&fma == 0 || c1&osxsave == 0 || c1&avx == 0 {
+		return false
+	}
+	if xgetbv0()&6 != 6 { // the OS saves XMM and YMM state
+		return false
+	}
+	_, b7, _, _ := cpuidex(7, 0)
+	return b7&(1<<5) != 0 // AVX2
+}
+
+// sieDeflectAVX adds to ax[i], ay[i] the deflection of the isothermal
+// ellipsoid described by p at (x[i], y[i]) for 0 ≤ i < n, n a multiple of 4
+// (see sieFast).
+//
+//go:noescape
+func sieDeflectAVX(p *sieParams, ax, ay, x, y *float64, n int)
+
+// nfwDeflectAVX adds to ax[i], ay[i] the deflection of the NFW halo
+// described by p at (x[i], y[i]), four points at a time, for 0 ≤ i < n, n a
+// multiple of 4, and stops before the first group of four with a point at
+// R ≥ r_s/2 (or not a number). It returns the number of points done.
+//
+//go:noescape
+func nfwDeflectAVX(p *nfwParams, ax, ay, x, y *float64, n int) (done int)
+
+// sieFast adds the deflection of e at the first len(x)/4·4 points with the
+// assembly kernel and returns the number of points done.
+func sieFast(e *sieEval, ax, ay, x, y []float64) int {
+	n := len(x) &^ 3
+	if n == 0 {
+		return 0
+	}
+	sieDeflectAVX(&e.kp, &ax[0], &ay[0], &x[0], &y[0], n)
+	return n
+}
+
+// sieOne returns the deflection of e at (x, y) from the assembly kernel.
+func sieOne(e *sieEval, x, y float64) (ax, ay float64) {
+	xs, ys := [4]float64{x, x, x, x}, [4]float64{y, y, y, y}
+	var axs, ays [4]float64
+	sieDeflectAVX(&e.kp, &axs[0], &ays[0], &xs[0], &ys[0], 4)
+	return axs[0], ays[0]
+}
+
+// nfwOne returns the deflection of e at (x, y) from the assembly kernel, or
+// ok = false when (x, y) lies outside its domain R < r_s/2.
+func nfwOne(e *nfwEval, x, y float64) (ax, ay float64, ok bool) {
+	xs, ys := [4]float64{x, x, x, x}, [4]float64{y, y, y, y}
+	var axs, ays [4]float64
+	if nfwDeflectAVX(&e.kp, &axs[0], &ays[0], &xs[0], &ys[0], 4) == 0 {
+		return 0, 0, false
+	}
+	return axs[0], ays[0], true
+}
+
+// nfwFast adds the deflection of e at the first len(x)/4·4 points, with the
+// assembly kernel where all four points of a group lie inside R < r_s/2 and
+// with the per-point method elsewhere, and returns the number of points
+// done.
+func nfwFast(e *nfwEval, ax, ay, x, y []float64) int {
+	n := len(x) &^ 3
+	if n == 0 {
+		return 0
+	}
+	for i := 0; i < n; {
+		i += nfwDeflectAVX(&e.kp, &ax[i], &ay[i], &x[i], &y[i], n-i)
+		if i < n {
+			for j := i; j < i+4; j++ {
+				dx, dy := e.deflect(x[j], y[j]) // nfwOne or the formulas
+				ax[j] += dx
+				ay[j] += dy
+			}
+			i += 4
+		}
+	}
+	return n
+}
