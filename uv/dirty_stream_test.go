@@ -187,3 +187,28 @@ func TestDirtyStreamErrors(t *testing.T) {
 		t.Errorf("huge uv grid: %v", err)
 	}
 }
+
+// BenchmarkMakeDirtyStream images 10⁵ and 10⁶ in-memory rows in chunks of
+// DefaultChunkRows on a 256² grid: one pass for natural weighting, two for
+// uniform.
+func BenchmarkMakeDirtyStream(b *testing.B) {
+	g := Grid{N: 256, Pixel: 0.05}
+	for _, n := range []int{100000, 1000000} {
+		d := simDataset(rand.New(rand.NewPCG(1, 1)), n, g, 300e9)
+		for k := range d.U { // resolution ≈ 5 pixels
+			d.U[k] *= 0.2
+			d.V[k] *= 0.2
+		}
+		for _, w := range []Weighting{Natural, Uniform} {
+			b.Run(fmt.Sprintf("%s/rows=%d", w, n), func(b *testing.B) {
+				b.ReportAllocs()
+				for b.Loop() {
+					if _, err := MakeDirtyStream(func() (ChunkReader, error) { return d.Chunks(DefaultChunkRows), nil },
+						g, ImagingOptions{Weighting: w}); err != nil {
+						b.Fatal(err)
+					}
+				}
+			})
+		}
+	}
+}
