@@ -61,7 +61,9 @@ type CompressOptions struct {
 	// NoPrimaryBeam sets A = 1 whatever the dish.
 	NoPrimaryBeam bool
 	// BatchRows is the number of rows buffered per NUFFT pass; zero means
-	// 1<<20. Memory is O(N²) per group plus about 40 bytes per buffered row.
+	// 1<<20. Memory is O(N²) per group plus about 72 bytes per buffered
+	// row (40 in fixed-size blocks, recycled, 32 in the transform's input)
+	// and up to one partly filled 320 kB block per group.
 	BatchRows int
 }
 
@@ -78,11 +80,28 @@ type Accumulator struct {
 	// pending counts the buffered rows of all groups; past 2·BatchRows
 	// every group is flushed, so memory stays bounded with many groups.
 	pending int
-	plan    *nufft.Plan
-	bufX    []float64
-	bufY    []float64
-	cD, cB  []complex128
-	out     []complex128
+	// free holds emptied row blocks for reuse.
+	free []*rowBlock
+	plan *nufft.Plan
+	bufX []float64
+	bufY []float64
+	bufC []complex128
+	out  []complex128
+}
+
+// blockRows is the number of rows of one rowBlock (320 kB), small enough
+// that a partly filled block per frequency group costs little.
+const blockRows = 1 << 13
+
+// rowBlock holds up to blockRows buffered rows of one group, in the form
+// the transforms need: NUFFT coordinates, weighted (and phase-shifted)
+// data, and weights. Blocks are fixed in size and recycled, so buffering
+// allocates nothing once the pool is as large as the largest batch.
+type rowBlock struct {
+	n    int
+	x, y [blockRows]float64
+	c    [blockRows]complex128
+	w    [blockRows]float64
 }
 
 type groupAcc struct {
@@ -94,8 +113,8 @@ type groupAcc struct {
 	dirty      []float64
 	beam       []float64
 	// pending rows, flushed into dirty and beam by the NUFFT
-	u, v, w []float64
-	d       []complex128
+	blocks []*rowBlock
+	npend  int
 }
 
 // NewAccumulator returns an Accumulator for the grid g.
@@ -148,6 +167,8 @@ func (a *Accumulator) Add(d *Dataset) error {
 		a.meta, a.seen = d.Meta, true
 	}
 	n := d.Len()
+	xyScale := 2 * math.Pi * a.grid.Pixel / ArcsecPerRadian // as nufftPoints
+	shifted := a.grid.X0 != 0 || a.grid.Y0 != 0
 	for k := range n {
 		if d.Flagged(k) {
 			continue
@@ -173,12 +194,20 @@ func (a *Accumulator) Add(d *Dataset) error {
 		g.sumW += w
 		g.dataTerm += w * (re*re + im*im)
 		g.logNorm += math.Log(w) - math.Log(2*math.Pi)
-		g.u = append(g.u, d.U[k])
-		g.v = append(g.v, d.V[k])
-		g.w = append(g.w, w)
-		g.d = append(g.d, complex(re, im))
+		b := a.block(g)
+		i := b.n
+		b.n++
+		u, v := d.U[k], d.V[k]
+		b.x[i], b.y[i] = -xyScale*u, xyScale*v
+		c := complex(w*re, w*im)
+		if shifted {
+			s, co := math.Sincos(offsetPhase(a.grid, u, v))
+			c *= complex(co, s)
+		}
+		b.c[i], b.w[i] = c, w
+		g.npend++
 		a.pending++
-		if len(g.u) >= a.opt.BatchRows {
+		if g.npend >= a.opt.BatchRows {
 			a.flush(g)
 		}
 		if a.pending >= 2*a.opt.BatchRows {
@@ -190,46 +219,60 @@ func (a *Accumulator) Add(d *Dataset) error {
 	return nil
 }
 
-// flush adds the pending rows of g to its D and B.
+// block returns a block of g with room for one more row, taking it from
+// the pool (or allocating one) when the last is full.
+func (a *Accumulator) block(g *groupAcc) *rowBlock {
+	if nb := len(g.blocks); nb > 0 && g.blocks[nb-1].n < blockRows {
+		return g.blocks[nb-1]
+	}
+	var b *rowBlock
+	if nf := len(a.free); nf > 0 {
+		b, a.free = a.free[nf-1], a.free[:nf-1]
+	} else {
+		b = new(rowBlock)
+	}
+	b.n = 0
+	g.blocks = append(g.blocks, b)
+	return b
+}
+
+// flush adds the pending rows of g to its D and B and returns its blocks
+// to the pool.
 func (a *Accumulator) flush(g *groupAcc) {
-	m := len(g.u)
+	m := g.npend
 	if m == 0 {
 		return
 	}
 	a.pending -= m
-	n := a.grid.N
 	if cap(a.bufX) < m {
-		a.bufX, a.bufY = make([]float64, m), make([]float64, m)
-		a.cD, a.cB = make([]complex128, m), make([]complex128, m)
+		// Grow geometrically up to one batch, then reuse.
+		c := min(max(m, 2*cap(a.bufX)), max(m, a.opt.BatchRows))
+		a.bufX, a.bufY, a.bufC = make([]float64, c), make([]float64, c), make([]complex128, c)
 	}
-	x, y := a.bufX[:m], a.bufY[:m]
-	cD, cB := a.cD[:m], a.cB[:m]
-	nufftPoints(x, y, g.u, g.v, a.grid.Pixel)
-	shifted := a.grid.X0 != 0 || a.grid.Y0 != 0
-	for k := range m {
-		c := g.d[k] * complex(g.w[k], 0)
-		if shifted {
-			s, co := math.Sincos(offsetPhase(a.grid, g.u[k], g.v[k]))
-			c *= complex(co, s)
-		}
-		cD[k] = c
-		cB[k] = complex(g.w[k], 0)
+	x, y, cbuf := a.bufX[:m], a.bufY[:m], a.bufC[:m]
+	off := 0
+	for _, b := range g.blocks {
+		copy(x[off:], b.x[:b.n])
+		copy(y[off:], b.y[:b.n])
+		copy(cbuf[off:], b.c[:b.n])
+		off += b.n
 	}
+	n := a.grid.N
 	n2 := 2 * n
+	if a.out == nil {
+		a.out = make([]complex128, n2*n2)
+	}
 	type1 := func(c []complex128) []complex128 {
 		if a.opt.Exact {
 			return nufft.DFT1(a.out, c, x, y, n2, +1)
 		}
 		return a.plan.Type1(a.out, c, +1)
 	}
-	if a.out == nil {
-		a.out = make([]complex128, n2*n2)
-	}
 	if a.plan != nil {
 		a.plan.SetPoints(x, y)
 	}
 	// Modes m = i − N/2 of the N grid sit at i + N/2 of the 2N grid.
-	out := type1(cD)
+	out := type1(cbuf)
 	for j := range n {
 		src := out[(j+n/2)*n2+n/2:]
 		dst := g.dirty[j*n : (j+1)*n]
@@ -237,7 +280,14 @@ func (a *Accumulator) flush(g *groupAcc) {
 			dst[i] += real(src[i])
 		}
 	}
-	out = type1(cB)
+	off = 0
+	for _, b := range g.blocks {
+		for i, w := range b.w[:b.n] {
+			cbuf[off+i] = complex(w, 0)
+		}
+		off += b.n
+	}
+	out = type1(cbuf)
 	nb := 2*n - 1
 	for dj := range nb {
 		src := out[(dj+1)*n2+1:]
@@ -246,7 +296,9 @@ func (a *Accumulator) flush(g *groupAcc) {
 			dst[di] += real(src[di])
 		}
 	}
-	g.u, g.v, g.w, g.d = g.u[:0], g.v[:0], g.w[:0], g.d[:0]
+	a.free = append(a.free, g.blocks...)
+	clear(g.blocks)
+	g.blocks, g.npend = g.blocks[:0], 0
 }
 
 // Result finishes the accumulation and returns one Compressed per

@@ -185,3 +185,36 @@ func TestGroupingErrorBound(t *testing.T) {
 		}
 	}
 }
+
+// The Accumulator's buffers are fixed in size and recycled. Per buffered
+// row of a batch it allocates 40 bytes of blocks and 32 of transform input,
+// and the NUFFT's point sort 52 more (124 in all; when the buffers grew by
+// append it was about 300); bound 140. Past one batch nothing grows: 16
+// batches allocate at most 1 MB more than 4 (12 more flushes, each with
+// the point sort's small per-call allocations).
+func TestAccumulateAllocationBounded(t *testing.T) {
+	g := Grid{N: 32, Pixel: 0.1}
+	alloc := func(rows, batch int) uint64 {
+		r := &synthReader{rnd: rand.New(rand.NewPCG(1, 2)), rows: rows, size: 4096,
+			umax: ArcsecPerRadian / (2 * g.Pixel)}
+		var ms runtime.MemStats
+		runtime.ReadMemStats(&ms)
+		before := ms.TotalAlloc
+		if _, err := CompressStream(r, g, CompressOptions{BatchRows: batch}); err != nil {
+			t.Fatal(err)
+		}
+		runtime.ReadMemStats(&ms)
+		return ms.TotalAlloc - before
+	}
+	const small, large = 16384, 262144
+	perRow := float64(alloc(large, large)-alloc(small, small)) / (large - small)
+	t.Logf("%.1f bytes allocated per buffered row", perRow)
+	if perRow > 140 {
+		t.Errorf("%.1f bytes allocated per buffered row, want ≤ 140", perRow)
+	}
+	four, sixteen := alloc(4*small, small), alloc(16*small, small)
+	t.Logf("allocated %.2f MB for 4 batches, %.2f MB for 16", float64(four)/(1<<20), float64(sixteen)/(1<<20))
+	if sixteen > four+1<<20 {
+		t.Errorf("allocated %d bytes for 16 batches, %d for 4: want at most 1 MB more", sixteen, four)
+	}
+}
