@@ -1,0 +1,38 @@
+package lensmodel
+
+import "testing"
+
+// BenchmarkFastKernels times the batch kernels alone over one chunk of
+// points resident in cache, assembly and per-point formulas.
+func BenchmarkFastKernels(b *testing.B) {
+	x, y := benchGrid(64, 1)
+	x, y = x[:chunkSize], y[:chunkSize]
+	ax, ay := make([]float64, len(x)), make([]float64, len(x))
+	for _, tc := range []struct {
+		name string
+		m    preparer
+	}{
+		{"sie", SIE{ThetaE: 1, Q: 0.7, PA: 30}},
+		{"nfw-elliptical", NFW{KappaS: 0.2, Rs: 15, Q: 0.9, PA: 30}},
+	} {
+		e := tc.m.prepare()
+		for _, fast := range []bool{true, false} {
+			name := tc.name + "/portable"
+			if fast {
+				name = tc.name + "/avx"
+				if !haveAVX {
+					continue
+				}
+			}
+			b.Run(name, func(b *testing.B) {
+				useAVX = fast
+				defer func() { useAVX = haveAVX }()
+				c0 := cpuNow()
+				for b.Loop() {
+					e.addDeflect(ax, ay, x, y)
+				}
+				b.ReportMetric(float64(cpuNow()-c0)/float64(b.N)/float64(len(x)), "cpu-ns/point")
+			})
+		}
+	}
+}
