@@ -45,22 +45,26 @@ func plotSky(g uv.Grid, data []float64) plots.SkyImage {
 // imageFigure returns the two-panel figure of a dirty image: the image in
 // mJy/beam with the clean-beam ellipse, and the dirty beam (peak 1) with
 // the clean beam's half-power ellipse over its main lobe. The beam panel
-// shows the central half of the beam grid, where its sidelobes matter.
+// shows ±10 clean-beam major axes about the centre (at most the central
+// half of the beam grid, at least ±8 pixels), where the sidelobes matter.
 func imageFigure(di *uv.DirtyImage, title string) (*plots.Figure, error) {
 	g := di.Grid
 	beam := plots.Beam{Major: di.Clean.BMaj, Minor: di.Clean.BMin, PA: di.Clean.BPA}
 	img := skyPanel{title: title, im: plotSky(g, di.Image), scale: 1e3, unit: "mJy/beam", beam: beam, corner: true}
 	bg := uv.Grid{N: g.N, Pixel: g.Pixel}
+	half := int(math.Ceil(10 * beam.Major / g.Pixel))
+	if !(beam.Major > 0) {
+		half = g.N / 4
+	}
 	bp := skyPanel{title: "dirty beam", im: plotSky(bg, di.Beam), scale: 1, unit: "dirty beam (peak 1)",
-		beam: beam, centre: true, half: true}
+		beam: beam, centre: true, half: max(8, min(half, g.N/4))}
 	for _, p := range []*skyPanel{&img, &bp} {
 		if err := p.prepare(); err != nil {
 			return nil, err
 		}
 	}
 	f := &plots.Figure{Width: plots.PageWidth, Height: 3.1 * vg.Inch}
-	f.Add(0, 0, 0.5, 1, img)
-	f.Add(0.5, 0, 1, 1, bp)
+	f.Add(0, 0, 1, 1, panelPair{img, bp})
 	return f, nil
 }
 
@@ -74,7 +78,7 @@ type skyPanel struct {
 	beam   plots.Beam
 	corner bool // beam ellipse in the lower-left (south-east) corner
 	centre bool // half-power ellipse at the centre, over the main lobe
-	half   bool // show the central half of the grid only
+	half   int  // when > 0, show pixels N/2 − half … N/2 + half only
 
 	i0, i1, j0, j1 int // pixels shown, inclusive
 	lo, hi         float64
@@ -86,9 +90,9 @@ func (s *skyPanel) prepare() error {
 		return fmt.Errorf("image figure: %s: %d values on a %d² grid of %g arcsec pixels", s.title, len(im.Values), im.N, im.Pixel)
 	}
 	s.i0, s.i1, s.j0, s.j1 = 0, im.N-1, 0, im.N-1
-	if s.half && im.N >= 16 {
-		q := im.N / 4
-		s.i0, s.i1, s.j0, s.j1 = q, im.N-1-q, q, im.N-1-q
+	if h := s.half; h > 0 && 2*h+1 < im.N {
+		c := im.N / 2
+		s.i0, s.i1, s.j0, s.j1 = c-h, c+h, c-h, c+h
 	}
 	s.lo, s.hi = math.Inf(1), math.Inf(-1)
 	for j := s.j0; j <= s.j1; j++ {
@@ -180,9 +184,9 @@ func (s *skyPanel) newPlot() *plot.Plot {
 	return p
 }
 
-// Draw implements plots.Drawer: the plot at equal aspect, the colour bar
-// beside its data area.
-func (s skyPanel) Draw(c draw.Canvas) {
+// layout returns the panel's plot and colour bar and the canvas the plot
+// takes inside c at equal aspect.
+func (s skyPanel) layout(c draw.Canvas) (*plot.Plot, colourBar, draw.Canvas, draw.Canvas) {
 	c.Min.X += 2
 	c.Min.Y += 2
 	c.Max.X -= 2
@@ -190,10 +194,37 @@ func (s skyPanel) Draw(c draw.Canvas) {
 	bar := colourBar{lo: s.lo, hi: s.hi, label: s.unit}
 	c.Max.X -= bar.width()
 	p := s.newPlot()
-	pc := equalAspect(p, c)
+	return p, bar, c, equalAspect(p, c)
+}
+
+// Draw implements plots.Drawer: the plot at equal aspect, the colour bar
+// beside its data area.
+func (s skyPanel) Draw(c draw.Canvas) {
+	p, bar, outer, pc := s.layout(c)
 	p.Draw(pc)
 	dc := p.DataCanvas(pc)
-	bar.draw(c, dc.Max.X+4, dc.Min.Y, dc.Max.Y)
+	bar.draw(outer, dc.Max.X+4, dc.Min.Y, dc.Max.Y)
+}
+
+// panelPair draws two panels side by side at the same height, so that
+// their titles and axes line up.
+type panelPair [2]skyPanel
+
+func (pp panelPair) Draw(c draw.Canvas) {
+	halves := [2]draw.Canvas{c, c}
+	mid := (c.Min.X + c.Max.X) / 2
+	halves[0].Max.X, halves[1].Min.X = mid, mid
+	h := c.Max.Y - c.Min.Y
+	for k := range pp {
+		_, _, _, pc := pp[k].layout(halves[k])
+		h = min(h, pc.Max.Y-pc.Min.Y)
+	}
+	for k := range pp {
+		e := (halves[k].Max.Y - halves[k].Min.Y - h) / 2
+		halves[k].Min.Y += e
+		halves[k].Max.Y -= e
+		pp[k].Draw(halves[k])
+	}
 }
 
 // equalAspect shrinks c, centred, until p's data area shows equal lengths
