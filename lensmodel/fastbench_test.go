@@ -36,3 +36,35 @@ func BenchmarkFastKernels(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkFastPointwise times the prepared composite lens point by point
+// (image finding, contour tracing) with and without the kernels.
+func BenchmarkFastPointwise(b *testing.B) {
+	x, y := benchGrid(64, 1)
+	p := compositeLens().Prepare()
+	for _, fast := range []bool{true, false} {
+		name := "portable"
+		if fast {
+			name = "avx"
+			if !haveAVX {
+				continue
+			}
+		}
+		b.Run(name, func(b *testing.B) {
+			useAVX = fast
+			defer func() { useAVX = haveAVX }()
+			var s float64
+			c0 := cpuNow()
+			for b.Loop() {
+				for i := range x {
+					ax, _ := p.Deflect(x[i], y[i])
+					s += ax
+				}
+			}
+			b.ReportMetric(float64(cpuNow()-c0)/float64(b.N)/float64(len(x)), "cpu-ns/point")
+			if s == 0 {
+				b.Fatal("no deflection")
+			}
+		})
+	}
+}
