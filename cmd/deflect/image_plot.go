@@ -279,15 +279,26 @@ type ellipse struct {
 	fill bool
 }
 
-func (e ellipse) Plot(c draw.Canvas, p *plot.Plot) {
-	trX, trY := p.Transforms(&c)
+// points returns n+1 points (x, y) arcsec around the ellipse, the first
+// and last at the end of the major axis toward PA.
+func (e ellipse) points(n int) [][2]float64 {
 	s, co := math.Sincos(e.b.PA * math.Pi / 180)
 	a, b := e.b.Major/2, e.b.Minor/2
-	pts := make([]vg.Point, 65)
+	pts := make([][2]float64, n+1)
 	for k := range pts {
-		st, ct := math.Sincos(2 * math.Pi * float64(k) / 64)
+		st, ct := math.Sincos(2 * math.Pi * float64(k) / float64(n))
 		u, w := a*ct, b*st // along the major and the minor axis, (cos PA, −sin PA)
-		pts[k] = vg.Point{X: trX(e.x + u*s + w*co), Y: trY(e.y + u*co - w*s)}
+		pts[k] = [2]float64{e.x + u*s + w*co, e.y + u*co - w*s}
+	}
+	return pts
+}
+
+func (e ellipse) Plot(c draw.Canvas, p *plot.Plot) {
+	trX, trY := p.Transforms(&c)
+	xy := e.points(64)
+	pts := make([]vg.Point, len(xy))
+	for k, q := range xy {
+		pts[k] = vg.Point{X: trX(q[0]), Y: trY(q[1])}
 	}
 	if e.fill {
 		c.FillPolygon(figWhite, pts)

@@ -10,6 +10,10 @@ import (
 	"strings"
 	"testing"
 
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/vg/draw"
+	"gonum.org/v1/plot/vg/vgimg"
+
 	"deflect/plots"
 	"deflect/uv"
 )
@@ -205,5 +209,61 @@ func TestImageStreamsLikeInMemory(t *testing.T) {
 	}
 	if !strings.Contains(so.String(), "1500 rows, 1500 visibilities imaged") {
 		t.Errorf("output: %s", so.String())
+	}
+}
+
+// The figure's panels put east on the left and north at the top: the
+// raster's top-left pixel is the grid's north-east corner (pixel (0, N−1)
+// in FITS order, x = +N/2·pixel), the x axis is inverted, and the axis
+// transforms put larger x (east) left of smaller x.
+func TestImageFigureOrientation(t *testing.T) {
+	const n = 16
+	vals := make([]float64, n*n)
+	vals[(n-1)*n+0] = 1 // i = 0 (east edge), j = N−1 (north edge)
+	s := skyPanel{title: "t", im: plots.SkyImage{N: n, Pixel: 0.1, Values: vals}, scale: 1, unit: "u"}
+	if err := s.prepare(); err != nil {
+		t.Fatal(err)
+	}
+	if x, y := s.im.XY(0, n-1); !(x > 0 && y > 0) {
+		t.Fatalf("pixel (0, N−1) at (%g, %g), want north-east", x, y)
+	}
+	img := s.raster()
+	top := plots.Viridis.At(1)
+	if c := img.At(0, 0); c != top {
+		t.Errorf("top-left raster pixel %v, want the peak colour %v", c, top)
+	}
+	b := img.Bounds()
+	if c := img.At(b.Max.X-1, b.Max.Y-1); c == top {
+		t.Error("bottom-right raster pixel has the peak colour")
+	}
+	p := s.newPlot()
+	if _, ok := p.X.Scale.(plot.InvertedScale); !ok {
+		t.Errorf("x scale %T, want inverted (east left)", p.X.Scale)
+	}
+	c := draw.New(vgimg.New(300, 300))
+	trX, trY := p.Transforms(&c)
+	if !(trX(0.5) < trX(-0.5)) || !(trY(0.5) > trY(-0.5)) {
+		t.Error("east is not left of west, or north not above south")
+	}
+	// Beam ellipses: PA is east of north, so PA 0 is tall, PA 90 wide and
+	// PA 45 has its major axis toward the north-east (x > 0, y > 0).
+	for _, tc := range []struct {
+		pa, dx, dy float64 // half extents
+		endX, endY float64 // major-axis end
+	}{
+		{0, 0.05, 0.2, 0, 0.2},
+		{90, 0.2, 0.05, 0.2, 0},
+		{45, 0.2 * math.Sqrt(0.5) * math.Sqrt(1+1.0/16), 0.2 * math.Sqrt(0.5) * math.Sqrt(1+1.0/16), 0.2 * math.Sqrt(0.5), 0.2 * math.Sqrt(0.5)},
+	} {
+		pts := ellipse{b: plots.Beam{Major: 0.4, Minor: 0.1, PA: tc.pa}}.points(3600)
+		var mx, my float64
+		for _, q := range pts {
+			mx, my = math.Max(mx, math.Abs(q[0])), math.Max(my, math.Abs(q[1]))
+		}
+		if math.Abs(mx-tc.dx) > 1e-6 || math.Abs(my-tc.dy) > 1e-6 ||
+			math.Abs(pts[0][0]-tc.endX) > 1e-12 || math.Abs(pts[0][1]-tc.endY) > 1e-12 {
+			t.Errorf("PA %g: half extents %g, %g (want %g, %g); major end %v (want %g, %g)",
+				tc.pa, mx, my, tc.dx, tc.dy, pts[0], tc.endX, tc.endY)
+		}
 	}
 }
