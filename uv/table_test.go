@@ -526,3 +526,44 @@ func TestExampleTablesAgree(t *testing.T) {
 		}
 	}
 }
+
+// Unknown columns are listed once in a note, however many chunks the table
+// is read in; autocorrelations are excluded and counted in a strict read as
+// well as with SkipBad.
+func TestNotesOnceAndAutocorrelationsStrict(t *testing.T) {
+	var b strings.Builder
+	b.WriteString("u,scan,v,re,im,weight,Field,obs id\n")
+	for k := range 10 {
+		u := k % 4 // rows 0, 4 and 8 are autocorrelations
+		b.WriteString(strconv.Itoa(u) + ",7," + strconv.Itoa(u) + ",1,2,3,x,9\n")
+	}
+	r, err := NewTableReader(strings.NewReader(b.String()), "obs.csv", ReadOptions{ChunkRows: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	d, err := ReadAll(r)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rep := r.Report()
+	var notes []string
+	for _, n := range rep.Notes {
+		if strings.Contains(n, "ignored") {
+			notes = append(notes, n)
+		}
+	}
+	if len(notes) != 1 || notes[0] != "columns ignored: scan, Field, obs id" {
+		t.Errorf("notes on ignored columns %q, want one: columns ignored: scan, Field, obs id", notes)
+	}
+	if !slices.Equal(rep.Unknown, []string{"scan", "Field", "obs id"}) {
+		t.Errorf("unknown columns %q", rep.Unknown)
+	}
+	if d.Len() != 7 || rep.Rows != 10 || rep.Used != 7 || rep.Autocorrelations != 3 {
+		t.Errorf("%d rows kept, report %+v; want 7 kept of 10, 3 autocorrelations", d.Len(), rep)
+	}
+	for k := range d.Len() {
+		if d.U[k] == 0 && d.V[k] == 0 {
+			t.Errorf("row %d is an autocorrelation", k)
+		}
+	}
+}
