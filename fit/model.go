@@ -349,7 +349,7 @@ func (p *modelParser) parseSky(t *table) {
 
 func (p *modelParser) parseData(t *table, i int) {
 	where := fmt.Sprintf("[[data]] #%d", i+1)
-	p.checkKeys(t, where, []string{"file", "label", "dish", "freq", "flux_scale", "offset", "noise_scale", "freq_groups"})
+	p.checkKeys(t, where, []string{"file", "label", "dish", "freq", "flux_scale", "offset", "dx", "dy", "noise_scale", "freq_groups"})
 	d := Data{Line: t.line}
 	file, line, ok := p.str(t, "file", where)
 	switch {
@@ -389,6 +389,21 @@ func (p *modelParser) parseData(t *table, i int) {
 	d.DX = p.dataParam(t, "offset", d.Label+".dx", 0, -0.1, 0.1, -inf, inf)
 	d.DY = p.dataParam(t, "offset", d.Label+".dy", 0, -0.1, 0.1, -inf, inf)
 	d.DX.Name, d.DY.Name = d.Label+".dx", d.Label+".dy"
+	// dx and dy set the two axes of the offset separately (bestfit.toml
+	// writes them so, each with its own best value).
+	for _, ax := range []struct {
+		key string
+		p   **Param
+	}{{"dx", &d.DX}, {"dy", &d.DY}} {
+		v, ok := t.get(ax.key)
+		if !ok {
+			continue
+		}
+		if _, both := t.get("offset"); both {
+			p.errorf(v.line, fmt.Sprintf("dataset %q %s", d.Label, ax.key), "incompatible options: give offset or dx and dy, not both")
+		}
+		*ax.p = p.dataParam(t, ax.key, d.Label, 0, -0.1, 0.1, -inf, inf)
+	}
 	if v, ok := t.get("noise_scale"); ok && v.kind == kindString && v.str == "estimate" {
 		d.EstimateNoise = true
 		d.NoiseScale = &Param{Name: d.Label + ".noise_scale", Value: 1, Line: v.line}
@@ -740,7 +755,7 @@ func (p *modelParser) crossChecks() {
 		allFlux, allOffset := true, true
 		for _, d := range p.m.Data {
 			allFlux = allFlux && d.FluxScale.Free
-			allOffset = allOffset && d.DX.Free
+			allOffset = allOffset && (d.DX.Free || d.DY.Free)
 		}
 		if allFlux {
 			p.errorf(p.m.Data[0].Line, "flux_scale", "incompatible options: every dataset has a free flux_scale; fix one (the flux reference) at 1")

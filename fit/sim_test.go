@@ -143,8 +143,15 @@ seed = 3
 // truth is the model's start vector.
 func writeSimModel(t testing.TB, dir string, pixel float64, n int, fitExtra string, sp simSpec) (*Model, []float64) {
 	t.Helper()
+	return writeSimDoc(t, dir, fmt.Sprintf(truthModel, pixel, n, fitExtra), uv.Grid{N: n, Pixel: pixel}, sp)
+}
+
+// writeSimDoc writes the model file doc (whose dataset is "sim.csv") and a
+// table simulated from its start vector on g.
+func writeSimDoc(t testing.TB, dir, doc string, g uv.Grid, sp simSpec) (*Model, []float64) {
+	t.Helper()
 	path := filepath.Join(dir, "model.toml")
-	if err := os.WriteFile(path, []byte(fmt.Sprintf(truthModel, pixel, n, fitExtra)), 0o644); err != nil {
+	if err := os.WriteFile(path, []byte(doc), 0o644); err != nil {
 		t.Fatal(err)
 	}
 	// The data file must exist before the model is read.
@@ -156,8 +163,10 @@ func writeSimModel(t testing.TB, dir string, pixel float64, n int, fitExtra stri
 		t.Fatal(err)
 	}
 	truth := m.Start()
-	simulate(t, filepath.Join(dir, "sim.csv"), m, truth, uv.Grid{N: n, Pixel: pixel}, sp)
+	simulate(t, filepath.Join(dir, "sim.csv"), m, truth, g, sp)
 	return m, truth
 }
 
 var smallSim = simSpec{nAnt: 12, nTimes: 12, uvMax: 206265 / 0.25, sigma: 2e-3, freq: 250e9, dish: 12, seed: 1}
+
+func gridOf(n int, pixel float64) uv.Grid { return uv.Grid{N: n, Pixel: pixel} }
