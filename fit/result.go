@@ -126,10 +126,10 @@ type MCMCInfo struct {
 
 // GridInfo is the sky grid of a fit.
 type GridInfo struct {
-	N      int     `json:"n"`
-	Pixel  float64 `json:"pixel_arcsec"`
-	X0     float64 `json:"x0_arcsec"`
-	Y0     float64 `json:"y0_arcsec"`
+	N     int     `json:"n"`
+	Pixel float64 `json:"pixel_arcsec"`
+	X0    float64 `json:"x0_arcsec"`
+	Y0    float64 `json:"y0_arcsec"`
 }
 
 // Timing holds wall-clock seconds.
