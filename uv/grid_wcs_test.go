@@ -3,7 +3,10 @@ package uv
 import (
 	"math"
 	"math/rand/v2"
+	"os"
 	"path/filepath"
+	"strconv"
+	"strings"
 	"testing"
 )
 
@@ -93,6 +96,79 @@ func TestFITSImageRoundTrip(t *testing.T) {
 	for k := range im.Data {
 		if got.Data[k] != im.Data[k] {
 			t.Fatalf("pixel %d: %v, want %v", k, got.Data[k], im.Data[k])
+		}
+	}
+}
+
+// The written FITS header, read as raw 80-character cards (FITS standard
+// 4.0, §4.1: keyword in columns 1–8, "= " in 9–10, the value after), holds
+// the WCS of ../shared/conventions.md in the units of Greisen & Calabretta
+// (2002, A&A 395, 1061, §2): degrees for CDELT, CRVAL, BMAJ and BMIN (BMAJ
+// in degrees is common practice), CDELT1 = −Δ, CRPIX = N/2 + 1 + X0/Δ on
+// axis 1 and N/2 + 1 − Y0/Δ on axis 2, BPA in degrees east of north. This
+// pins the units that a write–read round trip could not.
+func TestFITSImageHeaderCards(t *testing.T) {
+	g := Grid{N: 64, Pixel: 0.036, X0: 0.18, Y0: -0.072}
+	im := &SkyImage{Grid: g, Data: make([]float64, g.Len()),
+		Meta: ImageMeta{RA: 201.5, Dec: -43.25, HasPhaseCentre: true, Freq: 2.3e11, BUnit: "JY/BEAM",
+			Beam: &CleanBeam{BMaj: 0.36, BMin: 0.18, BPA: 30}}}
+	path := filepath.Join(t.TempDir(), "h.fits")
+	if err := WriteFITSImage(path, false, im); err != nil {
+		t.Fatal(err)
+	}
+	raw, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(raw)%2880 != 0 {
+		t.Errorf("file of %d bytes, not whole 2880-byte FITS blocks", len(raw))
+	}
+	cards := map[string]string{}
+	for off := 0; off+80 <= len(raw); off += 80 {
+		card := string(raw[off : off+80])
+		key := strings.TrimSpace(card[:8])
+		if key == "END" {
+			break
+		}
+		if card[8:10] != "= " {
+			continue
+		}
+		val := card[10:]
+		if q := strings.IndexByte(val, '\''); q >= 0 && strings.TrimSpace(val[:q]) == "" {
+			end := strings.IndexByte(val[q+1:], '\'')
+			cards[key] = strings.TrimSpace(val[q+1 : q+1+end])
+			continue
+		}
+		if s := strings.IndexByte(val, '/'); s >= 0 {
+			val = val[:s]
+		}
+		cards[key] = strings.TrimSpace(val)
+	}
+	for _, tc := range []struct{ key, want string }{
+		{"NAXIS", "2"}, {"NAXIS1", "64"}, {"NAXIS2", "64"},
+		{"CTYPE1", "RA---SIN"}, {"CTYPE2", "DEC--SIN"}, {"BUNIT", "JY/BEAM"},
+	} {
+		if cards[tc.key] != tc.want {
+			t.Errorf("%s = %q, want %q", tc.key, cards[tc.key], tc.want)
+		}
+	}
+	for _, tc := range []struct {
+		key  string
+		want float64
+	}{
+		{"CDELT1", -0.036 / 3600}, {"CDELT2", 0.036 / 3600},
+		{"CRPIX1", 33 + 5}, {"CRPIX2", 33 + 2},
+		{"CRVAL1", 201.5}, {"CRVAL2", -43.25},
+		{"BMAJ", 1e-4}, {"BMIN", 5e-5}, {"BPA", 30},
+	} {
+		s, ok := cards[tc.key]
+		if !ok {
+			t.Errorf("no card %s", tc.key)
+			continue
+		}
+		got, err := strconv.ParseFloat(strings.Replace(s, "D", "E", 1), 64)
+		if err != nil || math.Abs(got-tc.want) > 1e-12*math.Abs(tc.want) {
+			t.Errorf("%s = %q, want %.15g", tc.key, s, tc.want)
 		}
 	}
 }
