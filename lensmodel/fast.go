@@ -2,12 +2,12 @@ package lensmodel
 
 // Batch deflection kernels. On amd64 CPUs with AVX2 and FMA the
 // isothermal ellipsoid (q < 1, e = √(1 − q²) ≥ sieLogE) and the NFW halo
-// inside R < r_s/2 are evaluated four points at a time by the assembly of
-// fast_amd64.s (written by gen_fast.go); elsewhere, and for the last
-// len%4 points of a call, the per-point methods are used. With the
+// inside R < r_s/2 are evaluated by the assembly of
+// fast_amd64.s (written by gen_fast.go), eight at a time in two
+// interleaved groups; elsewhere the per-point methods are used. With the
 // kernels, the per-point deflection methods of these components call them
-// too, with the point in all four lanes, so that batch and per-point
-// values stay equal bit for bit. The kernels
+// too, with the point in all lanes, so that batch and per-point values stay
+// equal bit for bit (the last len%8 points of a call are evaluated so). The kernels
 // follow the per-point formulas of sie.go and nfw.go with the elementary
 // functions written out:
 //

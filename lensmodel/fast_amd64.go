@@ -30,24 +30,24 @@ func detectAVX() bool {
 }
 
 // sieDeflectAVX adds to ax[i], ay[i] the deflection of the isothermal
-// ellipsoid described by p at (x[i], y[i]) for 0 ≤ i < n, n a multiple of 4
+// ellipsoid described by p at (x[i], y[i]) for 0 ≤ i < n, n a multiple of 8
 // (see sieFast).
 //
 //go:noescape
 func sieDeflectAVX(p *sieParams, ax, ay, x, y *float64, n int)
 
 // nfwDeflectAVX adds to ax[i], ay[i] the deflection of the NFW halo
-// described by p at (x[i], y[i]), four points at a time, for 0 ≤ i < n, n a
-// multiple of 4, and stops before the first group of four with a point at
-// R ≥ r_s/2 (or not a number). It returns the number of points done.
+// described by p at (x[i], y[i]), eight points at a time, for 0 ≤ i < n, n
+// a multiple of 8, and stops before the first group of eight with a point
+// at R ≥ r_s/2 (or not a number). It returns the number of points done.
 //
 //go:noescape
 func nfwDeflectAVX(p *nfwParams, ax, ay, x, y *float64, n int) (done int)
 
-// sieFast adds the deflection of e at the first len(x)/4·4 points with the
+// sieFast adds the deflection of e at the first len(x)/8·8 points with the
 // assembly kernel and returns the number of points done.
 func sieFast(e *sieEval, ax, ay, x, y []float64) int {
-	n := len(x) &^ 3
+	n := len(x) &^ 7
 	if n == 0 {
 		return 0
 	}
@@ -57,41 +57,41 @@ func sieFast(e *sieEval, ax, ay, x, y []float64) int {
 
 // sieOne returns the deflection of e at (x, y) from the assembly kernel.
 func sieOne(e *sieEval, x, y float64) (ax, ay float64) {
-	xs, ys := [4]float64{x, x, x, x}, [4]float64{y, y, y, y}
-	var axs, ays [4]float64
-	sieDeflectAVX(&e.kp, &axs[0], &ays[0], &xs[0], &ys[0], 4)
+	xs, ys := [8]float64{x, x, x, x, x, x, x, x}, [8]float64{y, y, y, y, y, y, y, y}
+	var axs, ays [8]float64
+	sieDeflectAVX(&e.kp, &axs[0], &ays[0], &xs[0], &ys[0], 8)
 	return axs[0], ays[0]
 }
 
 // nfwOne returns the deflection of e at (x, y) from the assembly kernel, or
 // ok = false when (x, y) lies outside its domain R < r_s/2.
 func nfwOne(e *nfwEval, x, y float64) (ax, ay float64, ok bool) {
-	xs, ys := [4]float64{x, x, x, x}, [4]float64{y, y, y, y}
-	var axs, ays [4]float64
-	if nfwDeflectAVX(&e.kp, &axs[0], &ays[0], &xs[0], &ys[0], 4) == 0 {
+	xs, ys := [8]float64{x, x, x, x, x, x, x, x}, [8]float64{y, y, y, y, y, y, y, y}
+	var axs, ays [8]float64
+	if nfwDeflectAVX(&e.kp, &axs[0], &ays[0], &xs[0], &ys[0], 8) == 0 {
 		return 0, 0, false
 	}
 	return axs[0], ays[0], true
 }
 
-// nfwFast adds the deflection of e at the first len(x)/4·4 points, with the
-// assembly kernel where all four points of a group lie inside R < r_s/2 and
-// with the per-point method elsewhere, and returns the number of points
+// nfwFast adds the deflection of e at the first len(x)/8·8 points, with the
+// assembly kernel where all eight points of a group lie inside R < r_s/2
+// and with the per-point method elsewhere, and returns the number of points
 // done.
 func nfwFast(e *nfwEval, ax, ay, x, y []float64) int {
-	n := len(x) &^ 3
+	n := len(x) &^ 7
 	if n == 0 {
 		return 0
 	}
 	for i := 0; i < n; {
 		i += nfwDeflectAVX(&e.kp, &ax[i], &ay[i], &x[i], &y[i], n-i)
 		if i < n {
-			for j := i; j < i+4; j++ {
+			for j := i; j < i+8; j++ {
 				dx, dy := e.deflect(x[j], y[j]) // nfwOne or the formulas
 				ax[j] += dx
 				ay[j] += dy
 			}
-			i += 4
+			i += 8
 		}
 	}
 	return n

@@ -2,9 +2,9 @@
 
 // gen_fast writes fast_amd64.s: the batch deflection kernels of the
 // isothermal ellipsoid (SIE, singular or cored, q < 1) and of the NFW halo
-// with an elliptical potential (inside R < r_s/2), four points per 256-bit
-// register with AVX2 and FMA. Run with `go run gen_fast.go` in this
-// directory (go generate does). The algorithms are described beside the Go
+// with an elliptical potential (inside R < r_s/2), eight points per loop
+// iteration, four per 256-bit register, with AVX2 and FMA. Run with
+// `go run gen_fast.go` in this directory (go generate does). The algorithms are described beside the Go
 // declarations in fast_amd64.go; fast_test.go checks the kernels against
 // the per-point methods.
 package main
@@ -19,20 +19,72 @@ import (
 
 var b bytes.Buffer
 
+// cur collects the instructions of one group of four points; the kernels
+// interleave two groups, on disjoint registers and frame slots, so that
+// the processor overlaps their long dependency chains.
+var cur *[]string
+
 // op writes one instruction. Operands are given in Go assembler order
 // (sources first, destination last).
 func op(name string, args ...string) {
-	fmt.Fprintf(&b, "\t%s", name)
+	line := "\t" + name
 	for i, a := range args {
 		if i == 0 {
-			b.WriteString(" ")
+			line += " "
 		} else {
-			b.WriteString(", ")
+			line += ", "
 		}
-		b.WriteString(a)
+		line += a
 	}
-	b.WriteString("\n")
+	if cur != nil {
+		*cur = append(*cur, line)
+		return
+	}
+	b.WriteString(line + "\n")
 }
+
+// interleave writes the instruction lists of two groups alternately.
+func interleave(g0, g1 func()) {
+	var l0, l1 []string
+	cur = &l0
+	g0()
+	cur = &l1
+	g1()
+	cur = nil
+	for i := 0; i < max(len(l0), len(l1)); i++ {
+		if i < len(l0) {
+			b.WriteString(l0[i] + "\n")
+		}
+		if i < len(l1) {
+			b.WriteString(l1[i] + "\n")
+		}
+	}
+}
+
+// group is one of the two groups of four points of a loop iteration: its
+// eight registers, the byte offset of its points from index BX, and the
+// frame offset of its slots.
+type group struct {
+	r     [8]string
+	off   int
+	slots int
+}
+
+func newGroup(g, rows, nslots int) group {
+	var gr group
+	for i := range gr.r {
+		gr.r[i] = fmt.Sprintf("Y%d", 8*g+i)
+	}
+	gr.off = 32 * g
+	gr.slots = 32*rows + 32*nslots*g
+	return gr
+}
+
+// slot returns the frame operand of the group's slot i.
+func (g group) slot(i int) string { return fmt.Sprintf("%d(SP)", g.slots+32*i) }
+
+// at returns the operand of the group's four values at base register reg.
+func (g group) at(reg string) string { return fmt.Sprintf("%d(%s)(BX*8)", g.off, reg) }
 
 // Intel-order helpers: dst = a OP b, with b possibly a memory operand.
 func mul(dst, a, bb string) { op("VMULPD", bb, a, dst) }
@@ -82,7 +134,8 @@ func defConst(name string, bits uint64) {
 func defFloat(name string, v float64) { defConst(name, math.Float64bits(v)) }
 
 // Parameter rows: the kernel's prologue broadcasts the parameters (arrays
-// sieParams and nfwParams of fast.go) into 32-byte rows of its frame.
+// sieParams and nfwParams of fast.go) into 32-byte rows of its frame,
+// followed by the slots of the two groups.
 func p(row int) string { return fmt.Sprintf("%d(SP)", 32*row) }
 
 func main() {
@@ -163,239 +216,281 @@ TEXT ·xgetbv0(SB), NOSPLIT, $0-4
 
 `
 
-// local loads four points at index BX and rotates them into the frame
-// (rows 0–3: x0, y0, sin PA, cos PA): x' in Y2, y' in Y3.
-func local() {
-	op("VMOVUPD", "(SI)(BX*8)", "Y0")
-	op("VMOVUPD", "(DI)(BX*8)", "Y1")
-	sub("Y0", "Y0", p(0))
-	sub("Y1", "Y1", p(1))
-	mul("Y2", "Y0", p(2))
-	fma231("Y2", "Y1", p(3))
-	mul("Y3", "Y1", p(2))
-	fnma231("Y3", "Y0", p(3))
+// local loads the group's four points and rotates them into the frame
+// (rows 0–3: x0, y0, sin PA, cos PA): x' in r2, y' in r3 (r0, r1 clobbered).
+func local(g group) {
+	r := g.r
+	op("VMOVUPD", g.at("SI"), r[0])
+	op("VMOVUPD", g.at("DI"), r[1])
+	sub(r[0], r[0], p(0))
+	sub(r[1], r[1], p(1))
+	mul(r[2], r[0], p(2))
+	fma231(r[2], r[1], p(3))
+	mul(r[3], r[1], p(2))
+	fnma231(r[3], r[0], p(3))
 }
 
 // accumulate rotates the local deflection (a1, a2) back to the sky and adds
-// it to ax, ay at index BX. Clobbers Y0 and Y6.
-func accumulate(a1, a2 string) {
-	mul("Y0", a1, p(2))
-	fnma231("Y0", a2, p(3))
-	add("Y0", "Y0", "(R9)(BX*8)")
-	op("VMOVUPD", "Y0", "(R9)(BX*8)")
-	mul("Y6", a1, p(3))
-	fma231("Y6", a2, p(2))
-	add("Y6", "Y6", "(R10)(BX*8)")
-	op("VMOVUPD", "Y6", "(R10)(BX*8)")
+// it to ax, ay, using the temporaries t0, t1.
+func accumulate(g group, a1, a2, t0, t1 string) {
+	mul(t0, a1, p(2))
+	fnma231(t0, a2, p(3))
+	add(t0, t0, g.at("R9"))
+	op("VMOVUPD", t0, g.at("R9"))
+	mul(t1, a1, p(3))
+	fma231(t1, a2, p(2))
+	add(t1, t1, g.at("R10"))
+	op("VMOVUPD", t1, g.at("R10"))
 }
 
-// logRatio writes ln(A/B) for A, B > 0 (normal numbers) to out, using
-// Y9–Y14 and clobbering A and B. With A = 2^ka ma, B = 2^kb mb, ma, mb in
-// [1, 2), one of them doubled so that m = ma/mb lies in [1/√2, √2],
-// ln(A/B) = k ln 2 + 2 atanh(s) with s = (ma − mb)/(ma + mb), |s| ≤ 0.1716,
-// 2 atanh(s) = 2s + s R(s²) with the polynomial R of the FreeBSD/Go log
-// (Go's math/log.go, after FreeBSD e_log.c). ma − mb is exact (Sterbenz).
-func logRatio(out, A, B string) {
-	op("VPSRLQ", "$52", A, "Y9")
-	op("VPSRLQ", "$52", B, "Y10")
-	op("VPOR", k("two52"), "Y9", "Y9")
-	op("VPOR", k("two52"), "Y10", "Y10")
-	sub("Y9", "Y9", "Y10") // k = ka − kb, exact
+// logRatio writes ln(A/B) for A, B > 0 (normal numbers) to out, clobbering
+// A, B and the temporaries kk, t1, t2, t3. With A = 2^ka ma, B = 2^kb mb,
+// ma, mb in [1, 2), one of them doubled so that m = ma/mb lies in
+// [1/√2, √2], ln(A/B) = k ln 2 + 2 atanh(s) with s = (ma − mb)/(ma + mb),
+// |s| ≤ 0.1716, and 2 atanh(s) = 2s + s R(s²) with the polynomial R of Go's
+// math.Log (after FreeBSD e_log.c). ma − mb is exact (Sterbenz).
+func logRatio(out, A, B, kk, t1, t2, t3 string) {
+	op("VPSRLQ", "$52", A, kk)
+	op("VPSRLQ", "$52", B, t1)
+	op("VPOR", k("two52"), kk, kk)
+	op("VPOR", k("two52"), t1, t1)
+	sub(kk, kk, t1) // k = ka − kb, exact
 	and(A, A, k("mant"))
 	or(A, A, k("one"))
 	and(B, B, k("mant"))
 	or(B, B, k("one"))
 	// ma > √2 mb: double mb, k += 1.
-	mul("Y10", B, k("sqrt2"))
-	cmp("Y11", A, "Y10", predGT)
-	add("Y12", B, B)
-	blend(B, B, "Y12", "Y11")
-	and("Y12", "Y11", k("one"))
-	add("Y9", "Y9", "Y12")
+	mul(t1, B, k("sqrt2"))
+	cmp(t2, A, t1, predGT)
+	add(t1, B, B)
+	blend(B, B, t1, t2)
+	and(t2, t2, k("one"))
+	add(kk, kk, t2)
 	// mb > √2 ma: double ma, k −= 1.
-	mul("Y10", A, k("sqrt2"))
-	cmp("Y11", B, "Y10", predGT)
-	add("Y12", A, A)
-	blend(A, A, "Y12", "Y11")
-	and("Y12", "Y11", k("one"))
-	sub("Y9", "Y9", "Y12")
-	// s, s², s⁴.
-	sub("Y10", A, B)
-	add("Y11", A, B)
-	div("Y10", "Y10", "Y11")
-	mul("Y11", "Y10", "Y10")
-	mul("Y12", "Y11", "Y11")
-	// t1 = s²(L1 + s⁴(L3 + s⁴(L5 + s⁴ L7))), t2 = s⁴(L2 + s⁴(L4 + s⁴ L6)).
-	op("VMOVUPD", k("L7"), "Y13")
-	fma213("Y13", "Y12", k("L5"))
-	fma213("Y13", "Y12", k("L3"))
-	fma213("Y13", "Y12", k("L1"))
-	mul("Y13", "Y13", "Y11")
-	op("VMOVUPD", k("L6"), "Y14")
-	fma213("Y14", "Y12", k("L4"))
-	fma213("Y14", "Y12", k("L2"))
-	fma231("Y13", "Y14", "Y12") // R = t1 + s⁴ (L2 + …)
-	add(out, "Y10", "Y10")
-	fma231(out, "Y10", "Y13")
-	fma231(out, "Y9", k("ln2lo"))
-	fma231(out, "Y9", k("ln2hi"))
+	mul(t1, A, k("sqrt2"))
+	cmp(t2, B, t1, predGT)
+	add(t1, A, A)
+	blend(A, A, t1, t2)
+	and(t2, t2, k("one"))
+	sub(kk, kk, t2)
+	// s in t1, s² in t2, s⁴ in t3.
+	sub(t1, A, B)
+	add(t2, A, B)
+	div(t1, t1, t2)
+	mul(t2, t1, t1)
+	mul(t3, t2, t2)
+	// R = s²(L1 + s⁴(L3 + s⁴(L5 + s⁴ L7))) + s⁴(L2 + s⁴(L4 + s⁴ L6)).
+	op("VMOVUPD", k("L7"), A)
+	fma213(A, t3, k("L5"))
+	fma213(A, t3, k("L3"))
+	fma213(A, t3, k("L1"))
+	mul(A, A, t2)
+	op("VMOVUPD", k("L6"), B)
+	fma213(B, t3, k("L4"))
+	fma213(B, t3, k("L2"))
+	fma231(A, B, t3)
+	add(out, t1, t1)
+	fma231(out, t1, A)
+	fma231(out, kk, k("ln2lo"))
+	fma231(out, kk, k("ln2hi"))
 }
 
-func header(name, sig string, rows, args int) {
-	fmt.Fprintf(&b, "// func %s%s\nTEXT ·%s(SB), NOSPLIT, $%d-%d\n", name, sig, name, 32*rows, args)
+// header starts the kernel name: it broadcasts the rows parameters at p
+// into its frame (with room for slots more rows), loads the pointer
+// arguments into the registers regs (in the order of args, after p) and n
+// into CX, and opens the loop over BX.
+func header(name, sig string, rows, slots, argBytes int, args, regs []string) {
+	fmt.Fprintf(&b, "// func %s%s\nTEXT ·%s(SB), NOSPLIT, $%d-%d\n", name, sig, name, 32*(rows+slots), argBytes)
 	op("MOVQ", "p+0(FP)", "R8")
 	for i := range rows {
 		op("VBROADCASTSD", fmt.Sprintf("%d(R8)", 8*i), "Y0")
 		op("VMOVUPD", "Y0", p(i))
 	}
-	op("MOVQ", "ax+8(FP)", "R9")
-	op("MOVQ", "ay+16(FP)", "R10")
-	op("MOVQ", "x+24(FP)", "SI")
-	op("MOVQ", "y+32(FP)", "DI")
-	op("MOVQ", "n+40(FP)", "CX")
+	for i, a := range args {
+		op("MOVQ", fmt.Sprintf("%s+%d(FP)", a, 8*(i+1)), regs[i])
+	}
+	op("MOVQ", fmt.Sprintf("n+%d(FP)", 8*(len(args)+1)), "CX")
 	op("XORQ", "BX", "BX")
 	op("CMPQ", "BX", "CX")
 	fmt.Fprintf(&b, "\tJGE %s_done\n%s_loop:\n", name, name)
 }
 
-// sie writes sieDeflectAVX: rows of sieParams: 0 x0, 1 y0, 2 sin PA,
-// 3 cos PA, 4 q², 5 s², 6 s, 7 q² s, 8 e, 9 e², 10 b/e, 11 b/(2e).
-func sie() {
-	const name = "sieDeflectAVX"
-	header(name, "(p *sieParams, ax, ay, x, y *float64, n int)", 12, 48)
-	local()
-	// ξ = √(q² (s² + x'²) + y'²), ps = ξ + s.
-	mul("Y4", "Y2", "Y2")
-	add("Y4", "Y4", p(5))
-	mul("Y4", "Y4", p(4))
-	fma231("Y4", "Y3", "Y3")
-	op("VSQRTPD", "Y4", "Y4")
-	add("Y5", "Y4", p(6))
-	// atan(u/v), u = e|x'|, v = ps, reduced as in Go's math.Atan (Cephes):
-	// u > tan(3π/8) v: π/2 + atan(−v/u) + Morebits;
-	// u > 0.66 v: π/4 + atan((u − v)/(u + v)) + Morebits/2; else atan(u/v).
-	and("Y6", "Y2", k("abs"))
-	mul("Y6", "Y6", p(8))
-	mul("Y0", "Y5", k("tan3pio8"))
-	cmp("Y7", "Y6", "Y0", predGT)
-	mul("Y1", "Y5", k("p66"))
-	cmp("Y8", "Y6", "Y1", predGT)
-	sub("Y0", "Y6", "Y5")
-	add("Y1", "Y6", "Y5")
-	blend("Y9", "Y6", "Y0", "Y8")
-	blend("Y10", "Y5", "Y1", "Y8")
-	xor("Y0", "Y5", k("sign"))
-	blend("Y9", "Y9", "Y0", "Y7")
-	blend("Y10", "Y10", "Y6", "Y7")
-	div("Y9", "Y9", "Y10")
-	// At the centre of the singular ellipsoid (ps = 0) the quotient is 0/0:
-	// zero it.
-	op("VXORPD", "Y1", "Y1", "Y1")
-	cmp("Y10", "Y5", "Y1", predNEQ)
-	and("Y9", "Y9", "Y10")
-	// xatan: x + x z P(z)/Q(z), z = x².
-	mul("Y0", "Y9", "Y9")
-	op("VMOVUPD", k("P0"), "Y1")
-	for i := 1; i <= 4; i++ {
-		fma213("Y1", "Y0", k(fmt.Sprintf("P%d", i)))
-	}
-	add("Y6", "Y0", k("Q0"))
-	for i := 1; i <= 4; i++ {
-		fma213("Y6", "Y0", k(fmt.Sprintf("Q%d", i)))
-	}
-	mul("Y1", "Y1", "Y0")
-	div("Y1", "Y1", "Y6")
-	fma213("Y1", "Y9", "Y9")
-	and("Y0", "Y8", k("pio4"))
-	blend("Y0", "Y0", k("pio2"), "Y7")
-	and("Y6", "Y8", k("hmorebits"))
-	blend("Y6", "Y6", k("morebits"), "Y7")
-	add("Y1", "Y1", "Y0")
-	add("Y1", "Y1", "Y6")
-	and("Y0", "Y2", k("sign"))
-	xor("Y1", "Y1", "Y0")
-	mul("Y1", "Y1", p(10)) // α_x' = (b/e) atan(e x'/(ξ + s))
-	// α_y' = (b/2e) ln(num²/(q² (ps² + e² x'²))), num = ξ + q² s + e|y'|.
-	and("Y6", "Y3", k("abs"))
-	add("Y7", "Y4", p(7))
-	fma231("Y7", "Y6", p(8))
-	mul("Y7", "Y7", "Y7")
-	mul("Y8", "Y2", "Y2")
-	mul("Y8", "Y8", p(9))
-	fma231("Y8", "Y5", "Y5")
-	mul("Y8", "Y8", p(4))
-	logRatio("Y15", "Y7", "Y8")
-	mul("Y15", "Y15", p(11))
-	and("Y0", "Y3", k("sign"))
-	xor("Y15", "Y15", "Y0")
-	accumulate("Y1", "Y15")
-	op("ADDQ", "$4", "BX")
+func footer(name string) {
+	op("ADDQ", "$8", "BX")
 	op("CMPQ", "BX", "CX")
 	fmt.Fprintf(&b, "\tJLT %s_loop\n%s_done:\n", name, name)
+}
+
+// sie writes sieDeflectAVX, eight points per iteration: rows of sieParams:
+// 0 x0, 1 y0, 2 sin PA, 3 cos PA, 4 q², 5 s², 6 s, 7 q² s, 8 e, 9 e²,
+// 10 b/e, 11 b/(2e); slots 0 x', 1 y', 2 ξ, 3 α_x'.
+func sie() {
+	const name, rows, slots = "sieDeflectAVX", 12, 4
+	header(name, "(p *sieParams, ax, ay, x, y *float64, n int)", rows, 2*slots, 48,
+		[]string{"ax", "ay", "x", "y"}, []string{"R9", "R10", "SI", "DI"})
+	interleave(func() { sieGroup(newGroup(0, rows, slots)) }, func() { sieGroup(newGroup(1, rows, slots)) })
+	footer(name)
 	op("VZEROUPPER")
 	op("RET")
 	b.WriteString("\n")
 }
 
-// nfw writes nfwDeflectAVX: rows of nfwParams: 0 x0, 1 y0, 2 sin PA,
-// 3 cos PA, 4 a1 = 1 − ε, 5 a2 = 1 + ε, 6 1/r_s, 7 2 r_s, 8 4κ_s. It stops
-// at the first group of four points with one at R ≥ r_s/2 (or not a
+func sieGroup(g group) {
+	r := g.r
+	local(g)
+	op("VMOVUPD", r[2], g.slot(0))
+	op("VMOVUPD", r[3], g.slot(1))
+	// ξ = √(q² (s² + x'²) + y'²), ps = ξ + s.
+	mul(r[4], r[2], r[2])
+	add(r[4], r[4], p(5))
+	mul(r[4], r[4], p(4))
+	fma231(r[4], r[3], r[3])
+	op("VSQRTPD", r[4], r[4])
+	op("VMOVUPD", r[4], g.slot(2))
+	add(r[5], r[4], p(6))
+	// atan(u/v), u = e|x'|, v = ps, reduced as in Go's math.Atan (Cephes):
+	// u > tan(3π/8) v: π/2 + atan(−v/u) + Morebits;
+	// u > 0.66 v: π/4 + atan((u − v)/(u + v)) + Morebits/2; else atan(u/v).
+	and(r[6], r[2], k("abs"))
+	mul(r[6], r[6], p(8))
+	mul(r[0], r[5], k("tan3pio8"))
+	cmp(r[7], r[6], r[0], predGT) // m3
+	mul(r[1], r[5], k("p66"))
+	cmp(r[3], r[6], r[1], predGT) // m66
+	sub(r[0], r[6], r[5])
+	add(r[1], r[6], r[5])
+	blend(r[4], r[6], r[0], r[3]) // N
+	blend(r[2], r[5], r[1], r[3]) // D
+	xor(r[0], r[5], k("sign"))
+	blend(r[4], r[4], r[0], r[7])
+	blend(r[2], r[2], r[6], r[7])
+	div(r[4], r[4], r[2])
+	// At the centre of the singular ellipsoid (ps = 0) the quotient is 0/0:
+	// zero it.
+	op("VXORPD", r[1], r[1], r[1])
+	cmp(r[1], r[5], r[1], predNEQ)
+	and(r[4], r[4], r[1])
+	// xatan: x + x z P(z)/Q(z), z = x².
+	mul(r[0], r[4], r[4])
+	op("VMOVUPD", k("P0"), r[1])
+	for i := 1; i <= 4; i++ {
+		fma213(r[1], r[0], k(fmt.Sprintf("P%d", i)))
+	}
+	add(r[2], r[0], k("Q0"))
+	for i := 1; i <= 4; i++ {
+		fma213(r[2], r[0], k(fmt.Sprintf("Q%d", i)))
+	}
+	mul(r[1], r[1], r[0])
+	div(r[1], r[1], r[2])
+	fma213(r[1], r[4], r[4])
+	and(r[0], r[3], k("pio4"))
+	blend(r[0], r[0], k("pio2"), r[7])
+	and(r[2], r[3], k("hmorebits"))
+	blend(r[2], r[2], k("morebits"), r[7])
+	add(r[1], r[1], r[0])
+	add(r[1], r[1], r[2])
+	op("VMOVUPD", g.slot(0), r[0])
+	and(r[0], r[0], k("sign"))
+	xor(r[1], r[1], r[0])
+	mul(r[1], r[1], p(10)) // α_x' = (b/e) atan(e x'/(ξ + s))
+	op("VMOVUPD", r[1], g.slot(3))
+	// α_y' = (b/2e) ln(num²/(q² (ps² + e² x'²))), num = ξ + q² s + e|y'|.
+	op("VMOVUPD", g.slot(1), r[0])
+	and(r[0], r[0], k("abs"))
+	op("VMOVUPD", g.slot(2), r[2])
+	add(r[1], r[2], p(7))
+	fma231(r[1], r[0], p(8))
+	mul(r[1], r[1], r[1]) // A
+	add(r[2], r[2], p(6)) // ps
+	op("VMOVUPD", g.slot(0), r[3])
+	mul(r[3], r[3], r[3])
+	mul(r[3], r[3], p(9))
+	fma231(r[3], r[2], r[2])
+	mul(r[3], r[3], p(4)) // B
+	logRatio(r[6], r[1], r[3], r[0], r[2], r[4], r[5])
+	mul(r[6], r[6], p(11))
+	op("VMOVUPD", g.slot(1), r[0])
+	and(r[0], r[0], k("sign"))
+	xor(r[6], r[6], r[0])
+	op("VMOVUPD", g.slot(3), r[1])
+	accumulate(g, r[1], r[6], r[0], r[2])
+}
+
+// nfw writes nfwDeflectAVX, eight points per iteration: rows of
+// nfwParams: 0 x0, 1 y0, 2 sin PA, 3 cos PA, 4 a1 = 1 − ε, 5 a2 = 1 + ε,
+// 6 1/r_s, 7 2 r_s, 8 4κ_s; slots 0 x', 1 y', 2 the mask R ≠ 0. It stops
+// at the first group of eight points with one at R ≥ r_s/2 (or not a
 // number) and returns its index.
 func nfw() {
-	const name = "nfwDeflectAVX"
-	header(name, "(p *nfwParams, ax, ay, x, y *float64, n int) (done int)", 9, 56)
-	local()
-	// R = √(a1 x'² + a2 y'²), x = R/r_s.
-	mul("Y4", "Y2", "Y2")
-	mul("Y4", "Y4", p(4))
-	mul("Y0", "Y3", "Y3")
-	fma231("Y4", "Y0", p(5))
-	op("VSQRTPD", "Y4", "Y4")
-	mul("Y5", "Y4", p(6))
-	cmp("Y6", "Y5", k("half"), predLT)
-	op("VMOVMSKPD", "Y6", "AX")
+	const name, rows, slots = "nfwDeflectAVX", 9, 3
+	header(name, "(p *nfwParams, ax, ay, x, y *float64, n int) (done int)", rows, 2*slots, 56,
+		[]string{"ax", "ay", "x", "y"}, []string{"R9", "R10", "SI", "DI"})
+	g0, g1 := newGroup(0, rows, slots), newGroup(1, rows, slots)
+	interleave(func() { nfwRadius(g0, "AX") }, func() { nfwRadius(g1, "DX") })
+	op("ANDL", "DX", "AX")
 	op("CMPL", "AX", "$15")
 	fmt.Fprintf(&b, "\tJNE %s_done\n", name)
-	// 4h(x)/x² = (4/s) [ln(2/x)/p − 2 S/d], s = √(1 − x²), p = 1 + s,
-	// d = 4p − x², S = Σ_j z^{2j}/(2j + 1), z = x²/d ≤ 0.035 (fast.go).
-	op("VXORPD", "Y1", "Y1", "Y1")
-	cmp("Y7", "Y4", "Y1", predNEQ)
-	mul("Y8", "Y5", "Y5")
-	op("VMOVUPD", k("one"), "Y15")
-	sub("Y15", "Y15", "Y8")
-	op("VSQRTPD", "Y15", "Y15")
-	add("Y6", "Y15", k("one"))
-	mul("Y1", "Y6", k("four"))
-	sub("Y1", "Y1", "Y8")
-	div("Y8", "Y8", "Y1")
-	mul("Y8", "Y8", "Y8")
-	op("VMOVUPD", k("inv13"), "Y0")
-	for j := 5; j >= 0; j-- {
-		fma213("Y0", "Y8", k(fmt.Sprintf("inv%d", 2*j+1)))
-	}
-	// Free: Y5, Y8. Keep x' Y2, y' Y3, R Y4, mask Y7, s Y15, p Y6, d Y1, S Y0.
-	// L = ln(2 r_s/R), written over R.
-	op("VMOVUPD", p(7), "Y5")
-	logRatio("Y8", "Y5", "Y4")
-	op("VMOVUPD", "Y8", "Y5")
-	// num = L d − 2 S p, den = s p d, 4κ_s h/x² = 4κ_s num/den.
-	mul("Y5", "Y5", "Y1")
-	add("Y0", "Y0", "Y0")
-	fnma231("Y5", "Y0", "Y6")
-	mul("Y15", "Y15", "Y6")
-	mul("Y15", "Y15", "Y1")
-	div("Y5", "Y5", "Y15")
-	mul("Y5", "Y5", p(8))
-	and("Y5", "Y5", "Y7")
-	mul("Y2", "Y2", p(4))
-	mul("Y2", "Y2", "Y5")
-	mul("Y3", "Y3", p(5))
-	mul("Y3", "Y3", "Y5")
-	accumulate("Y2", "Y3")
-	op("ADDQ", "$4", "BX")
-	op("CMPQ", "BX", "CX")
-	fmt.Fprintf(&b, "\tJLT %s_loop\n%s_done:\n", name, name)
+	interleave(func() { nfwGroup(g0) }, func() { nfwGroup(g1) })
+	footer(name)
 	op("MOVQ", "BX", "done+48(FP)")
 	op("VZEROUPPER")
 	op("RET")
+}
+
+// nfwRadius computes R = √(a1 x'² + a2 y'²) in r4 and x = R/r_s in r5 and
+// sets the bits of mask where x < 1/2.
+func nfwRadius(g group, mask string) {
+	r := g.r
+	local(g)
+	op("VMOVUPD", r[2], g.slot(0))
+	op("VMOVUPD", r[3], g.slot(1))
+	mul(r[4], r[2], r[2])
+	mul(r[4], r[4], p(4))
+	mul(r[0], r[3], r[3])
+	fma231(r[4], r[0], p(5))
+	op("VSQRTPD", r[4], r[4])
+	mul(r[5], r[4], p(6))
+	cmp(r[6], r[5], k("half"), predLT)
+	op("VMOVMSKPD", r[6], mask)
+}
+
+// nfwGroup: 4h(x)/x² = (4/s) [ln(2/x)/p − 2 S/d], s = √(1 − x²), p = 1 + s,
+// d = 4p − x², S = Σ_j z^{2j}/(2j + 1), z = x²/d ≤ 0.035 (fast.go).
+func nfwGroup(g group) {
+	r := g.r
+	op("VXORPD", r[0], r[0], r[0])
+	cmp(r[0], r[4], r[0], predNEQ)
+	op("VMOVUPD", r[0], g.slot(2))
+	// L = ln(2 r_s/R) in r7.
+	op("VMOVUPD", p(7), r[1])
+	logRatio(r[7], r[1], r[4], r[0], r[2], r[3], r[6])
+	mul(r[1], r[5], r[5])
+	op("VMOVUPD", k("one"), r[0])
+	sub(r[0], r[0], r[1])
+	op("VSQRTPD", r[0], r[0]) // s
+	add(r[6], r[0], k("one")) // p
+	mul(r[2], r[6], k("four"))
+	sub(r[2], r[2], r[1]) // d
+	div(r[1], r[1], r[2])
+	mul(r[1], r[1], r[1])
+	op("VMOVUPD", k("inv13"), r[3])
+	for j := 5; j >= 0; j-- {
+		fma213(r[3], r[1], k(fmt.Sprintf("inv%d", 2*j+1)))
+	}
+	// num = L d − 2 S p, den = s p d, 4κ_s h/x² = 4κ_s num/den.
+	mul(r[7], r[7], r[2])
+	add(r[3], r[3], r[3])
+	fnma231(r[7], r[3], r[6])
+	mul(r[0], r[0], r[6])
+	mul(r[0], r[0], r[2])
+	div(r[7], r[7], r[0])
+	mul(r[7], r[7], p(8))
+	and(r[7], r[7], g.slot(2))
+	op("VMOVUPD", g.slot(0), r[2])
+	mul(r[2], r[2], p(4))
+	mul(r[2], r[2], r[7])
+	op("VMOVUPD", g.slot(1), r[3])
+	mul(r[3], r[3], p(5))
+	mul(r[3], r[3], r[7])
+	accumulate(g, r[2], r[3], r[0], r[1])
 }
