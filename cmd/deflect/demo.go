@@ -107,9 +107,9 @@ func runDemo(env *runEnv, dir string, force, quick bool) error {
 	if err != nil {
 		return err
 	}
-	evals, nNull := 300, 200
+	evals, nNull := 150, 200
 	if quick {
-		evals, nNull = 120, 50
+		evals, nNull = 60, 50
 	}
 	var fits []*probe.ModelFit
 	for _, c := range []struct {

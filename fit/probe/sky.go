@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"sync"
 
 	"deflect/fit"
 	"deflect/source"
@@ -79,6 +80,46 @@ type Sky struct {
 	RefFreq float64
 	// Tol is the NUFFT tolerance; zero means 1e-9.
 	Tol float64
+	// Render are the settings of the lensed rendering (the frequency is
+	// set per channel); the zero value means Tol 1e-2 and MaxDepth 2
+	// (sub-pixels of 1/4 pixel), enough for fits where each pixel's flux
+	// error stays below the noise, and ~20× faster than the source
+	// package's defaults on a 128² grid (measured for the demo scenario:
+	// 4.1 s per likelihood evaluation with the defaults, 0.2 s with these).
+	Render source.RenderOptions
+
+	mu    sync.Mutex
+	pools map[predKey]*sync.Pool
+}
+
+// predKey names the rows of one frequency of one dataset.
+type predKey struct {
+	d  *uv.Dataset
+	fi int
+}
+
+// predictor returns a Predictor for the rows of key from a pool, so that
+// repeated evaluations (a fit) do not rebuild the NUFFT plan; put it back
+// with the returned function.
+func (s *Sky) predictor(key predKey, beam uv.PrimaryBeam, u, v []float64, tol float64) (*uv.Predictor, func(), error) {
+	s.mu.Lock()
+	if s.pools == nil {
+		s.pools = map[predKey]*sync.Pool{}
+	}
+	pool := s.pools[key]
+	if pool == nil {
+		pool = &sync.Pool{}
+		s.pools[key] = pool
+	}
+	s.mu.Unlock()
+	if p, ok := pool.Get().(*uv.Predictor); ok {
+		return p, func() { pool.Put(p) }, nil
+	}
+	p, err := uv.NewPredictor(s.Grid, beam, u, v, tol)
+	if err != nil {
+		return nil, nil, err
+	}
+	return p, func() { pool.Put(p) }, nil
 }
 
 // NewSky returns the Sky of m on g, with the reference frequency of [sky]
@@ -163,7 +204,15 @@ func (s *Sky) Visibilities(theta []float64, idx int, d *uv.Dataset, cut Disc) ([
 		vis := make([]complex128, len(rows))
 		if extended {
 			clear(img)
-			source.Render(img, s.Grid, lens, src, source.RenderOptions{Freq: f})
+			ro := s.Render
+			if ro.Tol == 0 {
+				ro.Tol = 1e-2
+			}
+			if ro.MaxDepth == 0 {
+				ro.MaxDepth = 2
+			}
+			ro.Freq = f
+			source.Render(img, s.Grid, lens, src, ro)
 			if cut.R > 0 {
 				for k := range img {
 					if x, y := s.Grid.Centre(k); cut.Contains(x, y) {
@@ -171,11 +220,12 @@ func (s *Sky) Visibilities(theta []float64, idx int, d *uv.Dataset, cut Disc) ([
 					}
 				}
 			}
-			p, err := uv.NewPredictor(s.Grid, beam, u, v, tol)
+			p, done, err := s.predictor(predKey{d, fi}, beam, u, v, tol)
 			if err != nil {
 				return nil, err
 			}
 			vis = p.Predict(vis, img)
+			done()
 		}
 		pts, err := source.LensedPoints(lens, src, source.PointOptions{Freq: f})
 		if err != nil {
