@@ -49,3 +49,29 @@ func (e *nfwEval) fastParams() {
 	e.kp = nfwParams{g.f.x0, g.f.y0, g.f.s, g.f.c, g.a1, g.a2,
 		e.invRs, 2 / e.invRs, 4 * e.ks}
 }
+
+// shearParams are the constants of shearDeflectAVX: x0, y0, γ cos 2φ_γ,
+// γ sin 2φ_γ.
+type shearParams [4]float64
+
+// shearFastEval is the evaluator of an external shear whose batch
+// deflection goes through shearFast; its values are those of shearEval.
+type shearFastEval struct{ *shearEval }
+
+func (e shearFastEval) addDeflect(ax, ay, x, y []float64) {
+	ax, ay, y = ax[:len(x)], ay[:len(x)], y[:len(x)]
+	i := 0
+	if useAVX {
+		i = shearFast(e.shearEval, ax, ay, x, y)
+	}
+	e.shearEval.addDeflect(ax[i:], ay[i:], x[i:], y[i:])
+}
+
+// withFastKernels returns e, or its replacement with batch kernels of the
+// same values.
+func withFastKernels(e evaluator) evaluator {
+	if s, ok := e.(*shearEval); ok {
+		return shearFastEval{s}
+	}
+	return e
+}

@@ -150,3 +150,19 @@ func TestFastPointwise(t *testing.T) {
 		}
 	}
 }
+
+// TestFastShear checks that the shear kernel gives the per-point values
+// bit for bit.
+func TestFastShear(t *testing.T) {
+	rnd := rand.New(rand.NewPCG(4, 4))
+	m := Shear{Gamma: 0.07, Angle: 110, X: 0.2, Y: -0.1}
+	x, y := fastTestPoints(rnd, 0, 0, 0, 3, 1003)
+	ax, ay := make([]float64, len(x)), make([]float64, len(x))
+	Lens{m}.DeflectPoints(ax, ay, x, y)
+	for i := range x {
+		wx, wy := m.Deflect(x[i], y[i])
+		if ax[i] != wx || ay[i] != wy {
+			t.Fatalf("point %d: batch (%v, %v), per point (%v, %v)", i, ax[i], ay[i], wx, wy)
+		}
+	}
+}

@@ -248,7 +248,7 @@ func hessianSum(evs []evaluator, x, y float64) (hxx, hxy, hyy float64) {
 func (l Lens) evaluators() []evaluator {
 	evs := make([]evaluator, len(l))
 	for i, m := range l {
-		evs[i] = evaluatorOf(m)
+		evs[i] = withFastKernels(evaluatorOf(m)) // fast.go
 	}
 	return evs
 }
