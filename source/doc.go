@@ -29,5 +29,10 @@
 // primary beam A, DataTerm), NewNormal forms F = Lᵀ A B A L and b = Lᵀ A D,
 // and Invert solves (F + λR) s = b with a regularisation R of zeroth,
 // gradient or curvature form, choosing λ by maximising the evidence, which
-// it returns term by term. ReconstructPixels runs the whole chain.
+// it returns term by term. For grids of many thousand nodes NewOperator
+// applies F by FFT convolution over the mask's bounding box without forming
+// it, and InvertMatrixFree solves by preconditioned conjugate gradients,
+// estimating ln det(F + λR) by stochastic Lanczos quadrature and the
+// per-node σ by a probing diagonal estimator, each with a stated error.
+// ReconstructPixels runs the whole chain and picks the path by node count.
 package source

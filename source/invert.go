@@ -16,20 +16,27 @@ import (
 // the form, so one Prior serves every lens model whose grid has the same
 // shape.
 type Prior struct {
-	Kind   Regularization
+	Kind Regularization
+	// R is the dense matrix, nil beyond MaxDensePrior nodes (the
+	// matrix-free solver uses a sparse copy).
 	R      *mat.SymDense
 	LogDet float64 // ln det R
+	sp     *csr
 }
 
 // NewPrior returns the Prior of the given form on grid g; eps is the
-// zeroth-order term of RegularizationMatrix.
+// zeroth-order term of RegularizationMatrix. ln det R is exact, from the
+// Kronecker-sum structure of R on the node lattice (see latticePrior).
 func NewPrior(g *PixelGrid, kind Regularization, eps float64) (*Prior, error) {
-	r := RegularizationMatrix(g, kind, eps)
-	var ch mat.Cholesky
-	if !ch.Factorize(r) {
-		return nil, fmt.Errorf("source: %v regularization matrix of %d nodes is not positive definite", kind, g.Len())
+	sp, logDet, err := latticePrior(g, kind, eps)
+	if err != nil {
+		return nil, err
 	}
-	return &Prior{Kind: kind, R: r, LogDet: ch.LogDet()}, nil
+	p := &Prior{Kind: kind, LogDet: logDet, sp: sp}
+	if g.Len() <= MaxDensePrior {
+		p.R = RegularizationMatrix(g, kind, eps)
+	}
+	return p, nil
 }
 
 // Evidence is the Bayesian evidence of a pixelated source for one lens
@@ -74,8 +81,35 @@ type InvertOptions struct {
 	// it out.
 	DataLogNorm float64
 	// NoErrors skips the per-node uncertainties and N_eff, which need the
-	// inverse of F + λR (one more O(N_s³) step).
+	// inverse of F + λR (one more O(N_s³) step; SigmaPeriod² CG solves on
+	// the matrix-free path).
 	NoErrors bool
+
+	// The settings of the matrix-free path (InvertMatrixFree):
+
+	// CGTol is the relative residual |b − (F + λR) s| / |b| at which
+	// conjugate gradients stop; 0 means 1e-8.
+	CGTol float64
+	// Probes is the number of probe vectors of the stochastic Lanczos
+	// quadrature of ln det(F + λR), rounded up to whole rounds of
+	// ProbePeriod² (at least two rounds); 0 means 32.
+	Probes int
+	// ProbePeriod p colours the node lattice by (ix mod p, iy mod p): a
+	// round of probes is one vector of random signs per colour, zero on
+	// the other colours, so that the estimate is exact for couplings
+	// between nodes closer than p along either axis (probing); 1 gives
+	// plain Rademacher vectors. 0 means 4.
+	ProbePeriod int
+	// LanczosSteps bounds the Lanczos steps per probe; 0 means 100.
+	LanczosSteps int
+	// Seed seeds the probes (rand.NewPCG(Seed, Seed); the sign vectors of
+	// the σ estimate use rand.NewPCG(Seed, Seed+1)). With the same Seed
+	// every λ and every lens model see the same probes, so the evidence
+	// is a deterministic, smooth function of λ and the lens parameters.
+	Seed uint64
+	// SigmaPeriod is the lattice period p of the probing vectors of the σ
+	// estimate (p² CG solves); 0 means 6.
+	SigmaPeriod int
 }
 
 // Inversion is the most probable pixelated source for a lens model.
@@ -92,8 +126,17 @@ type Inversion struct {
 	// Weights) and ImageFlux the flux Σ_r (L s)_r of its lensed image on the
 	// mask; Magnification = ImageFlux/Flux.
 	Flux, ImageFlux, Magnification float64
-	// Evaluations is the number of factorisations of F + λR.
+	// Evaluations is the number of factorisations of F + λR (of λ
+	// evaluations on the matrix-free path).
 	Evaluations int
+	// LogDetError is the standard error of the stochastic ln det(F + λR)
+	// of the matrix-free path, from the scatter over its rounds of
+	// probes; ln ε's is half of it. Zero on the dense path, which is
+	// exact.
+	LogDetError float64
+	// CGIterations counts the conjugate-gradient iterations of all solves
+	// on the matrix-free path (each one product with F).
+	CGIterations int
 }
 
 // solver evaluates the evidence of a Normal with a Prior at any λ, reusing
@@ -171,7 +214,7 @@ func (sv *solver) eval(lambda float64) (Evidence, error) {
 // safeguards refines it to Tol in ln λ.
 //
 // The system is solved by dense Cholesky factorisation (gonum mat). For
-// more than a few thousand nodes use SolveCG at a fixed λ.
+// more than a few thousand nodes use InvertMatrixFree.
 //
 // References:
 //   - Warren S. J., Dye S., 2003, ApJ 590, 673 (semi-linear inversion).
@@ -190,7 +233,7 @@ func Invert(nm *Normal, prior *Prior, g *PixelGrid, mp *Mapping, opt InvertOptio
 	}
 	if lambda == 0 {
 		var err error
-		lambda, err = sv.maximise(opt)
+		lambda, err = maximise(sv, opt)
 		if err != nil {
 			return nil, err
 		}
@@ -239,14 +282,24 @@ func Invert(nm *Normal, prior *Prior, g *PixelGrid, mp *Mapping, opt InvertOptio
 	return inv, nil
 }
 
-// maximise returns the λ of largest evidence.
-func (sv *solver) maximise(opt InvertOptions) (float64, error) {
-	n := len(sv.nm.B)
-	var trF, trR float64
-	for i := range n {
+// traces returns tr F and tr R.
+func (sv *solver) traces() (trF, trR float64) {
+	for i := range len(sv.nm.B) {
 		trF += sv.nm.F.At(i, i)
 		trR += sv.prior.R.At(i, i)
 	}
+	return trF, trR
+}
+
+// evaluator is a solver of (F + λR) s = b that returns the evidence at λ.
+type evaluator interface {
+	eval(lambda float64) (Evidence, error)
+	traces() (trF, trR float64)
+}
+
+// maximise returns the λ of largest evidence.
+func maximise(sv evaluator, opt InvertOptions) (float64, error) {
+	trF, trR := sv.traces()
 	if !(trF > 0) {
 		return 0, fmt.Errorf("source: the mask maps to no source node (tr F = %g)", trF)
 	}
@@ -361,8 +414,8 @@ func parabolicMin(f func(float64) float64, a, b, c, fa, fb, fc, tol float64) flo
 // gradients on (F + λR) s = b, for node counts where a dense factorisation
 // is too slow; it stops when the residual falls below tol (0 means 1e-10)
 // times |b| or after maxIter iterations (0 means N_s), returning the
-// source, its χ² and the iteration count. The evidence's log-determinant is
-// not available this way.
+// source, its χ² and the iteration count. It still forms the dense F; the
+// matrix-free path with the evidence is InvertMatrixFree.
 func SolveCG(nm *Normal, prior *Prior, lambda, tol float64, maxIter int) (s []float64, chi2 float64, iter int, err error) {
 	n := len(nm.B)
 	if !(lambda > 0) {

@@ -27,8 +27,14 @@ type PixelOptions struct {
 	Reg   Regularization
 	Eps   float64
 	// Invert are the inversion settings (fixed λ or evidence search,
-	// data normalisation, uncertainties).
+	// data normalisation, uncertainties, the matrix-free path's settings).
 	Invert InvertOptions
+	// Solver chooses dense Cholesky or the matrix-free path; SolverAuto
+	// (the zero value) solves grids of up to DenseMax nodes densely (0
+	// means DefaultDenseMax; at most MaxDensePrior) and larger ones
+	// matrix-free.
+	Solver   Solver
+	DenseMax int
 }
 
 // PixelSource is a reconstructed pixelated source with everything that
@@ -36,8 +42,12 @@ type PixelOptions struct {
 type PixelSource struct {
 	Grid    *PixelGrid
 	Mapping *Mapping
-	Normal  *Normal
-	Prior   *Prior
+	// Normal is the dense normal system (nil on the matrix-free path),
+	// Operator the matrix-free one (nil on the dense path).
+	Normal   *Normal
+	Operator *Operator
+	Prior    *Prior
+	Solver   Solver // the path taken: SolverDense or SolverMatrixFree
 	*Inversion
 }
 
@@ -48,7 +58,9 @@ type PixelSource struct {
 // F = Lᵀ A B A L, b = Lᵀ A D summed over the measurements, and solves
 // (F + λR) s = b at the given or the evidence-maximising λ (see Invert). The
 // evidence in the result is the likelihood of the lens parameters with a
-// pixelated source.
+// pixelated source. Grids beyond DenseMax nodes take the matrix-free path
+// instead (NewOperator, InvertMatrixFree), whose evidence and
+// uncertainties are stochastic estimates with stated errors.
 func ReconstructPixels(meas []Measurement, pix Pixels, lens lensmodel.Mass, mask []int, opt PixelOptions) (*PixelSource, error) {
 	if len(mask) == 0 {
 		return nil, fmt.Errorf("source: the image-plane mask is empty")
@@ -81,14 +93,42 @@ func ReconstructPixels(meas []Measurement, pix Pixels, lens lensmodel.Mass, mask
 		if err != nil {
 			return nil, err
 		}
-	} else if prior.R.SymmetricDim() != g.Len() {
-		return nil, fmt.Errorf("source: prior has %d nodes, grid %d", prior.R.SymmetricDim(), g.Len())
+	} else if prior.Len() != g.Len() {
+		return nil, fmt.Errorf("source: prior has %d nodes, grid %d", prior.Len(), g.Len())
 	}
 	mp := newMapping(pix, mask, g, sub, bx, by)
-	nm := NewNormal(meas, mp)
-	inv, err := Invert(nm, prior, g, mp, opt.Invert)
+	solver := opt.Solver
+	switch solver {
+	case SolverAuto:
+		dmax := opt.DenseMax
+		if dmax == 0 {
+			dmax = DefaultDenseMax
+		}
+		if dmax < 0 {
+			return nil, fmt.Errorf("source: DenseMax %d is negative", dmax)
+		}
+		solver = SolverMatrixFree
+		if g.Len() <= min(dmax, MaxDensePrior) {
+			solver = SolverDense
+		}
+	case SolverDense, SolverMatrixFree:
+	default:
+		panic(fmt.Sprintf("source: unknown solver %d", int(solver)))
+	}
+	ps := &PixelSource{Grid: g, Mapping: mp, Prior: prior, Solver: solver}
+	var err error
+	if solver == SolverDense {
+		if prior.R == nil {
+			return nil, fmt.Errorf("source: dense solver asked for %d nodes, beyond the %d of a dense prior; use the matrix-free solver", g.Len(), MaxDensePrior)
+		}
+		ps.Normal = NewNormal(meas, mp)
+		ps.Inversion, err = Invert(ps.Normal, prior, g, mp, opt.Invert)
+	} else {
+		ps.Operator = NewOperator(meas, mp)
+		ps.Inversion, err = InvertMatrixFree(ps.Operator, prior, g, mp, opt.Invert)
+	}
 	if err != nil {
 		return nil, err
 	}
-	return &PixelSource{Grid: g, Mapping: mp, Normal: nm, Prior: prior, Inversion: inv}, nil
+	return ps, nil
 }
