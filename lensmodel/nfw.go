@@ -28,7 +28,9 @@ import "math"
 // α and the Hessian. The iso-density contours are flatter than Q.
 //
 // At the centre the deflection is zero and κ and the Hessian diagonal are
-// +Inf (the cusp).
+// +Inf (the cusp). On amd64 processors with AVX2 and FMA the deflection
+// inside R < r_s/2 comes from the vector kernel of fast.go, within
+// 4e-15 |α| + 1e-15 κ_s r_s of the portable evaluation (tested).
 //
 // References:
 //   - Bartelmann M., 1996, A&A 313, 697 (κ, α and ψ of the NFW lens; the
