@@ -27,9 +27,8 @@ import "math"
 // diagonal of the Hessian as +Inf, so that the magnification there is 0.
 // On amd64 processors with AVX2 and FMA the deflection (point by point and
 // in batches) of an ellipsoid with e ≥ 0.05 comes from the vector kernel of
-// fast.go, which evaluates these formulas to within 4e-15 |α| +
-// 1e-15 max(b/e, θ_E)
-// of their portable evaluation (tested).
+// fast.go, which evaluates these formulas to within
+// 4e-15 |α| + 1e-15 max(b/e, θ_E) of their portable evaluation (tested).
 //
 // References:
 //   - Kormann R., Schneider P., Bartelmann M., 1994, A&A 284, 285
