@@ -57,6 +57,7 @@ type likeScratch struct {
 	vals   []float64
 	render [][]float64 // per extended component
 	img    []float64
+	trace  []float64 // 2 N²: traced positions, then the window image
 }
 
 // NewLikelihood reads (or takes from the cache) and compresses every dataset
@@ -173,18 +174,32 @@ func (l *Likelihood) Evaluate(theta []float64) (*Evaluation, error) {
 	return ev, nil
 }
 
-// shiftedGrid is the likelihood grid seen by a dataset with offset (dx, dy):
-// pixel k shows the model at Centre(k) − (dx, dy).
-type shiftedGrid struct {
-	g      uv.Grid
-	dx, dy float64
-}
-
-func (s shiftedGrid) Size() int          { return s.g.N }
-func (s shiftedGrid) PixelSize() float64 { return s.g.Pixel }
-func (s shiftedGrid) Centre(k int) (x, y float64) {
-	x, y = s.g.Centre(k)
-	return x - s.dx, y - s.dy
+// renderExtended renders each extended component c of src (indices
+// extended) into sc.render, seen with the dataset offset (dx, dy), on the
+// window of the grid where the lensed emission lies (see renderWindow).
+func (l *Likelihood) renderExtended(sc *likeScratch, lens lensmodel.Lens, fast lensmodel.Mass, src source.Source, extended []int, dx, dy float64, ropt source.RenderOptions) {
+	if len(extended) == 0 {
+		return
+	}
+	comps := make([]source.Component, len(extended))
+	for r, c := range extended {
+		comps[r] = src.Components[c]
+	}
+	if len(sc.trace) < 2*l.Grid.Len() {
+		sc.trace = make([]float64, 2*l.Grid.Len())
+	}
+	w, ok := renderWindow(l.Grid, lens, comps, dx, dy, sc.trace)
+	if !ok {
+		for r := range extended {
+			clear(sc.render[r])
+		}
+		return
+	}
+	sub := sc.trace[:w.n*w.n]
+	for r := range extended {
+		source.Render(sub, w, fast, source.Source{Components: comps[r : r+1]}, ropt)
+		pasteWindow(sc.render[r], sub, w)
+	}
 }
 
 var errNonFinite = errors.New("fit: non-finite χ²")
@@ -239,11 +254,7 @@ func (l *Likelihood) eval(theta []float64, keep bool) (float64, *Evaluation, err
 			return 0, nil, fmt.Errorf("dataset %q: noise scale %g, flux scale %g: want both > 0", d.Label, s, f)
 		}
 		if !rendered || dx != lastDX || dy != lastDY {
-			pix := shiftedGrid{g: l.Grid, dx: dx, dy: dy}
-			for r, c := range extended {
-				one := source.Source{Components: src.Components[c : c+1]}
-				source.Render(sc.render[r], pix, fast, one, ropt)
-			}
+			l.renderExtended(sc, lens, fast, src, extended, dx, dy, ropt)
 			rendered, lastDX, lastDY = true, dx, dy
 		}
 		de := DatasetEval{Label: d.Label, NoiseScale: s, FluxScale: f, DX: dx, DY: dy, Visibilities: dd.Visibilities}
