@@ -73,8 +73,9 @@ type ModelFit struct {
 	//
 	// Σ the inverse Hessian of −ln(L π) at θ̂; NaN when Σ is not available
 	// (LogZNote says why).
-	LogZ     float64 `json:"log_z_laplace"`
-	LogZNote string  `json:"log_z_note,omitempty"`
+	LogZ     float64  `json:"-"`
+	LogZJSON *float64 `json:"log_z_laplace"` // LogZ, null when NaN
+	LogZNote string   `json:"log_z_note,omitempty"`
 	// Evaluations counts likelihood calls.
 	Evaluations int `json:"evaluations"`
 
@@ -142,6 +143,10 @@ func FitModel(ctx context.Context, name string, m *fit.Model, data []*uv.Dataset
 			}
 		}
 	}
+	if !math.IsNaN(mf.LogZ) {
+		z := mf.LogZ
+		mf.LogZJSON = &z
+	}
 	mf.Chi2 = -2 * (mf.LogLike - norm)
 	mf.BIC = float64(kfree)*math.Log(2*float64(mf.Visibilities)) - 2*mf.LogLike
 	return mf, nil
@@ -153,9 +158,10 @@ type ModelTest struct {
 	A, B *ModelFit
 	// DeltaChi2 = χ²_A − χ²_B and DeltaBIC = BIC_A − BIC_B (positive:
 	// B preferred); LnBayes = ln Z_B − ln Z_A (Laplace approximation).
-	DeltaChi2 float64 `json:"delta_chi2"`
-	DeltaBIC  float64 `json:"delta_bic"`
-	LnBayes   float64 `json:"ln_bayes_factor_b_over_a"`
+	DeltaChi2 float64  `json:"delta_chi2"`
+	DeltaBIC  float64  `json:"delta_bic"`
+	LnBayes   float64  `json:"-"`
+	LnBayesJS *float64 `json:"ln_bayes_factor_b_over_a"` // LnBayes, null when NaN
 	// Method says how the fits and evidences were computed.
 	Method string `json:"method"`
 }
@@ -163,8 +169,13 @@ type ModelTest struct {
 // CompareModels returns the model test of the fits a (no central image) and
 // b (a central image).
 func CompareModels(a, b *ModelFit) *ModelTest {
-	return &ModelTest{A: a, B: b,
-		DeltaChi2: a.Chi2 - b.Chi2, DeltaBIC: a.BIC - b.BIC, LnBayes: b.LogZ - a.LogZ,
+	lnB := b.LogZ - a.LogZ
+	var js *float64
+	if !math.IsNaN(lnB) {
+		js = &lnB
+	}
+	return &ModelTest{A: a, B: b, LnBayesJS: js,
+		DeltaChi2: a.Chi2 - b.Chi2, DeltaBIC: a.BIC - b.BIC, LnBayes: lnB,
 		Method: "maximum a posteriori by Nelder–Mead and BFGS (fit.Optimize) on the exact visibility likelihood; evidence by the Laplace approximation at the optimum"}
 }
 
