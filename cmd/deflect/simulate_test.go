@@ -14,6 +14,9 @@ const simulateModel = `[sky]
 pixel = 0.05
 size = 64
 
+[[data]]
+file = "placeholder.csv"
+
 [[lens]]
 kind = "sie"
 name = "g"
@@ -35,6 +38,9 @@ func TestSimulateArray(t *testing.T) {
 	dir := t.TempDir()
 	model := filepath.Join(dir, "m.toml")
 	if err := os.WriteFile(model, []byte(simulateModel), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(filepath.Join(dir, "placeholder.csv"), []byte("u,v,re,im,weight\n1,1,0,0,1\n"), 0o644); err != nil {
 		t.Fatal(err)
 	}
 	arr := filepath.Join("..", "..", "testdata", "arrays", "tiny.txt")
