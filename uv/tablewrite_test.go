@@ -218,3 +218,41 @@ func TestFITSCorrupt(t *testing.T) {
 		}
 	}
 }
+
+// A truncated or corrupted gzip file is an error naming the file and the
+// line reached, never a silently shorter table.
+func TestGzipDamaged(t *testing.T) {
+	dir := t.TempDir()
+	p := filepath.Join(dir, "obs.csv.gz")
+	if err := WriteTableFile(p, false, randomDataset(5000, true, 6)); err != nil {
+		t.Fatal(err)
+	}
+	raw, err := os.ReadFile(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	flipped := append([]byte(nil), raw...)
+	flipped[len(flipped)/2] ^= 0xff
+	for name, data := range map[string][]byte{
+		"truncated":    raw[:len(raw)/2],
+		"no trailer":   raw[:len(raw)-4],
+		"flipped byte": flipped,
+	} {
+		t.Run(name, func(t *testing.T) {
+			q := filepath.Join(dir, strings.ReplaceAll(name, " ", "-")+".csv.gz")
+			if err := os.WriteFile(q, data, 0o644); err != nil {
+				t.Fatal(err)
+			}
+			d, _, err := ReadFile(q, ReadOptions{})
+			var pe *ParseError
+			if err == nil || !errors.As(err, &pe) || pe.File != q || pe.Line < 1 {
+				n := -1
+				if d != nil {
+					n = d.Len()
+				}
+				t.Fatalf("error %v (%d rows read), want a *ParseError naming %s and a line", err, n, q)
+			}
+			t.Logf("%v", err)
+		})
+	}
+}
