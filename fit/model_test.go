@@ -213,3 +213,23 @@ func TestKindsHelpListsEveryParameter(t *testing.T) {
 		}
 	}
 }
+
+// TestDataOffsetAxes checks the per-axis dx and dy keys bestfit.toml writes,
+// and that they exclude offset.
+func TestDataOffsetAxes(t *testing.T) {
+	doc := strings.Replace(exampleModel, `offset = "free"`, `dx = {start = 0.01, min = -0.1, max = 0.1}
+dy = -0.02`, 1)
+	m, err := ParseModel(writeModel(t, doc), []byte(doc))
+	if err != nil {
+		t.Fatal(err)
+	}
+	d := m.Data[1]
+	if !d.DX.Free || d.DX.Value != 0.01 || d.DY.Free || d.DY.Value != -0.02 || d.DX.Name != "band3.dx" {
+		t.Errorf("dx %+v, dy %+v", *d.DX, *d.DY)
+	}
+	bad := strings.Replace(exampleModel, `offset = "free"`, `offset = "free"
+dx = 0.1`, 1)
+	if _, err := ParseModel(writeModel(t, bad), []byte(bad)); err == nil || !strings.Contains(err.Error(), "not both") {
+		t.Errorf("offset with dx: err = %v", err)
+	}
+}
