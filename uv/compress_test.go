@@ -345,3 +345,50 @@ func TestCompressedConcurrent(t *testing.T) {
 		t.Error(e)
 	}
 }
+
+// Near the best fit the three terms of the compressed χ² (each about
+// Σ w|V|²) cancel to leave χ² ≈ 2 per visibility, so the relative test
+// above says little there. With data = model + noise at a total
+// signal-to-noise ratio of 5·10⁵ (Σ w|V|² = 2.6·10¹¹) the compressed χ²
+// still equals the direct sum to 1e-13·Σ w|V|² (rounding of the cancelling
+// terms; 5·10⁻⁴ here), and a perturbation of the model that changes χ² by
+// about 1 is reproduced to 1e-2: what a fit's χ² differences need.
+func TestCompressedChi2NearMinimum(t *testing.T) {
+	rnd := rand.New(rand.NewPCG(5, 5))
+	g := Grid{N: 32, Pixel: 0.1}
+	d := simDataset(rnd, 3000, g, 2e12)
+	img := supportImage(rnd, g, 10, 20, 12, 22)
+	beam := NewPrimaryBeam(12, 2e12)
+	vis := directVis(g, beam, img, d.U, d.V)
+	const sigma = 1e-3
+	var signal float64
+	for k := range vis {
+		d.Re[k] = real(vis[k]) + sigma*rnd.NormFloat64()
+		d.Im[k] = imag(vis[k]) + sigma*rnd.NormFloat64()
+		d.Weight[k] = 1 / (sigma * sigma)
+		if !d.Flagged(k) {
+			signal += d.Weight[k] * (real(vis[k])*real(vis[k]) + imag(vis[k])*imag(vis[k]))
+		}
+	}
+	// A one-pixel change of 2·10⁻⁶ Jy: Δχ² ≈ Σw|δV|² ≈ 2.6·10³·(2·10⁻⁶/10⁻³)² ≈ 1.
+	moved := append([]float64(nil), img...)
+	moved[15*g.N+14] += 2e-6
+	for _, exact := range []bool{true, false} {
+		cs, err := Compress(d, g, CompressOptions{Exact: exact})
+		if err != nil {
+			t.Fatal(err)
+		}
+		c := cs[0]
+		want := directChi2(d, g, c.PrimaryBeam(), img)
+		got := c.Chi2(img)
+		if math.Abs(got-want) > 1e-13*signal {
+			t.Errorf("exact=%v: χ² %.10g, direct %.10g: difference %.3g > 1e-13·Σw|V|² = %.3g",
+				exact, got, want, math.Abs(got-want), 1e-13*signal)
+		}
+		dWant := directChi2(d, g, c.PrimaryBeam(), moved) - want
+		dGot := c.Chi2(moved) - got
+		if math.Abs(dWant) < 0.1 || math.Abs(dGot-dWant) > 1e-2 {
+			t.Errorf("exact=%v: Δχ² %.6g, direct %.6g", exact, dGot, dWant)
+		}
+	}
+}
