@@ -316,8 +316,10 @@ func header(name, sig string, rows, slots, argBytes int, args, regs []string) {
 	fmt.Fprintf(&b, "\tJGE %s_done\n%s_loop:\n", name, name)
 }
 
-func footer(name string) {
-	op("ADDQ", "$8", "BX")
+func footer(name string) { footerStep(name, 8) }
+
+func footerStep(name string, step int) {
+	op("ADDQ", fmt.Sprintf("$%d", step), "BX")
 	op("CMPQ", "BX", "CX")
 	fmt.Fprintf(&b, "\tJLT %s_loop\n%s_done:\n", name, name)
 }
@@ -331,6 +333,17 @@ func sie() {
 		[]string{"ax", "ay", "x", "y"}, []string{"R9", "R10", "SI", "DI"})
 	interleave(func() { sieGroup(newGroup(0, rows, slots)) }, func() { sieGroup(newGroup(1, rows, slots)) })
 	footer(name)
+	op("VZEROUPPER")
+	op("RET")
+	b.WriteString("\n")
+
+	// sieDeflect4AVX: the same, one group of four per iteration (for single
+	// points: half the instructions).
+	const name4 = "sieDeflect4AVX"
+	header(name4, "(p *sieParams, ax, ay, x, y *float64, n int)", rows, slots, 48,
+		[]string{"ax", "ay", "x", "y"}, []string{"R9", "R10", "SI", "DI"})
+	sieGroup(newGroup(0, rows, slots))
+	footerStep(name4, 4)
 	op("VZEROUPPER")
 	op("RET")
 	b.WriteString("\n")
@@ -433,6 +446,20 @@ func nfw() {
 	fmt.Fprintf(&b, "\tJNE %s_done\n", name)
 	interleave(func() { nfwGroup(g0) }, func() { nfwGroup(g1) })
 	footer(name)
+	op("MOVQ", "BX", "done+48(FP)")
+	op("VZEROUPPER")
+	op("RET")
+	b.WriteString("\n")
+
+	// nfwDeflect4AVX: the same, one group of four per iteration.
+	const name4 = "nfwDeflect4AVX"
+	header(name4, "(p *nfwParams, ax, ay, x, y *float64, n int) (done int)", rows, slots, 56,
+		[]string{"ax", "ay", "x", "y"}, []string{"R9", "R10", "SI", "DI"})
+	nfwRadius(g0, "AX")
+	op("CMPL", "AX", "$15")
+	fmt.Fprintf(&b, "\tJNE %s_done\n", name4)
+	nfwGroup(g0)
+	footerStep(name4, 4)
 	op("MOVQ", "BX", "done+48(FP)")
 	op("VZEROUPPER")
 	op("RET")
