@@ -158,10 +158,15 @@ func (l Lens) TraceGrid(bx, by []float64, x0, y0, dx, dy float64, nx, ny int) {
 	parallel(n, func(lo, hi int) {
 		buf := gridScratch.Get().(*[2][chunkSize]float64)
 		xs, ys := buf[0][:hi-lo], buf[1][:hi-lo]
+		j, i := lo/nx, lo%nx
+		yj := y0 + float64(j)*dy
 		for k := range xs {
-			j, i := (lo+k)/nx, (lo+k)%nx
 			xs[k] = x0 + float64(i)*dx
-			ys[k] = y0 + float64(j)*dy
+			ys[k] = yj
+			if i++; i == nx {
+				i, j = 0, j+1
+				yj = y0 + float64(j)*dy
+			}
 		}
 		dxs, dys := bx[lo:hi], by[lo:hi]
 		clear(dxs)
