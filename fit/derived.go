@@ -57,6 +57,9 @@ func derivedQuantities(l *Likelihood, best []float64, post posterior, w []float6
 	if ref == nil {
 		return nil
 	}
+	if l.pix != nil {
+		n = min(n, 20) // each draw is a full source inversion
+	}
 	rnd := rand.New(rand.NewPCG(seed, 1234))
 	draws := equalWeight(post.samples, w, n, rnd.Float64())
 	cols := make([][]float64, len(ref.vals))
@@ -159,6 +162,14 @@ func derivedAt(l *Likelihood, theta []float64) *derivedSet {
 		}
 		d.add("source magnification", "", mu, "flux-weighted over all components")
 		d.add("source intrinsic flux", "mJy", intrTot*1e3, "")
+	}
+	if l.pix != nil {
+		_, pi, err := l.invertPixels(lens, vals)
+		if err != nil {
+			return nil
+		}
+		d.add("pixelated source magnification", "", pi.inv.Magnification, "lensed flux on the mask / reconstructed source flux")
+		d.add("pixelated source intrinsic flux", "mJy", pi.inv.Flux*1e3, "")
 	}
 	x0, y0, centred := mainCentre(lens)
 	if centred {

@@ -48,6 +48,7 @@ type Likelihood struct {
 	Notes []string
 
 	pm        *paramMap
+	pix       *pixelSource
 	renderTol float64
 	pool      sync.Pool
 	bad       atomic.Int64
@@ -63,16 +64,20 @@ type likeScratch struct {
 // NewLikelihood reads (or takes from the cache) and compresses every dataset
 // of m on the model's grid, ready for LogLike.
 func NewLikelihood(m *Model, opt LikelihoodOptions) (*Likelihood, error) {
+	var pix *pixelSource
 	for _, c := range m.Sources {
 		if c.Kind == "pixels" {
-			return nil, fmt.Errorf("%s:%d: source %q: pixelated sources are not yet supported by the fit likelihood (use sersic, gaussian or point components)", m.Path, c.Line, c.Name)
+			var err error
+			if pix, err = newPixelSource(m, c); err != nil {
+				return nil, err
+			}
 		}
 	}
 	g, data, notes, err := loadData(m, opt)
 	if err != nil {
 		return nil, err
 	}
-	l := &Likelihood{Model: m, Grid: g, Datasets: data, Notes: notes, pm: newParamMap(m), renderTol: opt.RenderTol}
+	l := &Likelihood{Model: m, Grid: g, Datasets: data, Notes: notes, pm: newParamMap(m), renderTol: opt.RenderTol, pix: pix}
 	if l.renderTol == 0 {
 		l.renderTol = DefaultRenderTol
 	}
@@ -138,6 +143,12 @@ type Evaluation struct {
 	// before any dataset offset or flux scale.
 	PointImages []source.PointImage
 	Datasets    []DatasetEval
+	// Pixels is the most probable pixelated source on PixelGrid, for a
+	// model with a "pixels" source; LogLike is then its evidence,
+	// marginalised over the source (Suyu et al. 2006), and each
+	// DatasetEval's LogLike the Gaussian term at that source.
+	Pixels    *source.Inversion
+	PixelGrid *source.PixelGrid
 }
 
 // DatasetEval is one dataset's share of an Evaluation.
@@ -215,6 +226,9 @@ func (l *Likelihood) eval(theta []float64, keep bool) (float64, *Evaluation, err
 	lens, err := l.pm.lens(vals)
 	if err != nil {
 		return 0, nil, err
+	}
+	if l.pix != nil {
+		return l.pixelEval(theta, vals, lens, keep)
 	}
 	src, err := l.pm.source(vals, l.RefFreq)
 	if err != nil {

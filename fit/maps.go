@@ -1,6 +1,7 @@
 package fit
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"path/filepath"
@@ -117,6 +118,21 @@ func SourcePlaneOf(ev *Evaluation) (*SourcePlane, error) {
 				hw = math.Max(hw, d)
 			}
 		}
+	}
+	if pg := ev.PixelGrid; pg != nil && ev.Pixels != nil {
+		nx := len(pg.X)
+		p := (pg.X[nx-1] - pg.X[0]) / float64(nx-1)
+		if len(pg.Y) != nx || math.Abs((pg.Y[nx-1]-pg.Y[0])/float64(nx-1)-p) > 1e-9*p || nx%2 != 0 {
+			return nil, errors.New("the pixelated source's grid is not square and regular (adaptive or odd)")
+		}
+		sp.Grid = uv.Grid{N: nx, Pixel: p, X0: pg.X[0] + float64(nx-1-nx/2)*p, Y0: pg.Y[0] + float64(nx/2)*p}
+		sp.Brightness = make([]float64, nx*nx)
+		for j := range nx {
+			for i := range nx {
+				sp.Brightness[j*nx+i] = ev.Pixels.Source[j*nx+(nx-1-i)]
+			}
+		}
+		return sp, nil
 	}
 	const n = 128
 	sp.Grid = uv.Grid{N: n, Pixel: 2 * hw / n, X0: cx, Y0: cy}

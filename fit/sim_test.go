@@ -170,3 +170,10 @@ func writeSimDoc(t testing.TB, dir, doc string, g uv.Grid, sp simSpec) (*Model, 
 var smallSim = simSpec{nAnt: 12, nTimes: 12, uvMax: 206265 / 0.25, sigma: 2e-3, freq: 250e9, dish: 12, seed: 1}
 
 func gridOf(n int, pixel float64) uv.Grid { return uv.Grid{N: n, Pixel: pixel} }
+
+func writeFile(t testing.TB, path, doc string) {
+	t.Helper()
+	if err := os.WriteFile(path, []byte(doc), 0o644); err != nil {
+		t.Fatal(err)
+	}
+}

@@ -96,7 +96,11 @@ func renderWindow(g uv.Grid, lens lensmodel.Lens, comps []source.Component, dx, 
 		return window{}, false
 	}
 	const pad = 3
-	side := min(n, max(imax-imin, jmax-jmin)+1+2*pad)
+	// Sides are rounded up to a multiple of 16 pixels so that the few
+	// distinct window sizes keep the compressed χ²'s cache of beam spectra
+	// (one per padded support size) warm.
+	side := max(imax-imin, jmax-jmin) + 1 + 2*pad
+	side = min(n, (side+15)/16*16)
 	ci, cj := (imin+imax)/2, (jmin+jmax)/2
 	i0 := min(max(ci-side/2, 0), n-side)
 	j0 := min(max(cj-side/2, 0), n-side)

@@ -131,6 +131,14 @@ func (j jsonSafe) MarshalJSON() ([]byte, error) {
 	}
 	c.BestLogLike, c.BestLogPost = jsonFinite(c.BestLogLike), jsonFinite(c.BestLogPost)
 	c.Chi2, c.ReducedChi2, c.BIC = jsonFinite(c.Chi2), jsonFinite(c.ReducedChi2), jsonFinite(c.BIC)
+	if j.r.MCMC != nil {
+		mc := *j.r.MCMC
+		mc.Tau = append([]float64(nil), mc.Tau...)
+		for i := range mc.Tau {
+			mc.Tau[i] = jsonFinite(mc.Tau[i])
+		}
+		c.MCMC = &mc
+	}
 	c.Params = append([]ParamSummary(nil), j.r.Params...)
 	for i := range c.Params {
 		p := &c.Params[i]
