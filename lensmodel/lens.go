@@ -330,7 +330,8 @@ func checkLengths(name string, n int, others ...int) {
 // enough to balance the load and keep the slices (x, y, α_x, α_y: 16 KiB)
 // in the first-level cache while each component passes over them, large
 // enough that scheduling costs nothing. A multiple of 8, the group of the
-// batch kernels (fast.go), so chunks do not change which points they take.
+// batch kernels (fast.go), so that only the last chunk can end in a
+// partial group.
 const chunkSize = 512
 
 // parallel calls fn on consecutive chunks [lo, hi) of [0, n), spread over
