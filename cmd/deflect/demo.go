@@ -116,7 +116,7 @@ func runDemo(env *runEnv, dir string, force, quick bool) error {
 		name string
 		m    *fit.Model
 	}{{"nohalo", mA}, {"halo", mB}} {
-		f, err := probe.FitModel(context.Background(), c.name, c.m, data, g, evals, demo.Seed)
+		f, err := probe.FitModel(context.Background(), c.name, c.m, evals, demo.Seed)
 		if err != nil {
 			return err
 		}

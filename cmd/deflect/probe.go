@@ -51,11 +51,13 @@ radius is removed first, so the tests ask whether the data need flux there.
                 half in time and the short and long baselines (split at the
                 median uv distance), fluxes compared at the reference
                 frequency with the source's spectral index
-  model test    with --models A.toml,B.toml (A cannot make a central image,
-                B can): both fitted (maximum a posteriori), Δχ², ΔBIC and the
-                ln Bayes factor in the Laplace approximation, and the central
-                image each predicts (FindImages on its best fit; spread over
-                draws from the Laplace posterior)
+  model test    with --models A,B (A cannot make a central image, B can):
+                fit directories of "deflect fit" are read (their evidence when
+                fitted with method = "nested", their posterior.csv); model
+                files are fitted here (maximum a posteriori with the compressed
+                likelihood, Laplace evidence). Δχ², ΔBIC, ln Bayes factor,
+                and the central image each predicts (FindImages on its best
+                fit, spread over posterior draws)
 
 Writes DIR/probe.json (every number), DIR/probe.png (the panel) and prints
 the report with its verdict.`,
@@ -65,7 +67,7 @@ the report with its verdict.`,
 			fs.IntVar(&o.null, "null", 200, "number of null simulations")
 			fs.StringVar(&o.weighting, "weighting", "natural", "imaging weighting of the image being judged: natural, uniform or briggs")
 			fs.Float64Var(&o.robust, "robust", 0, "Briggs robustness `R`")
-			fs.StringVar(&o.models, "models", "", "model files `A.toml,B.toml` without and with a central image, for the model test")
+			fs.StringVar(&o.models, "models", "", "model files or fit directories `A,B` without and with a central image, for the model test")
 			fs.IntVar(&o.evals, "evals", 400, "likelihood calls per optimiser phase in the model test")
 			fs.StringVar(&o.out, "o", "probe", "output `DIR`ectory")
 			fs.Uint64Var(&o.seed, "seed", 1, "random seed of the null simulations")
@@ -75,11 +77,7 @@ the report with its verdict.`,
 			if len(args) != 1 {
 				return usagef("want one MODEL file or fit directory, got %d arguments", len(args))
 			}
-			path := args[0]
-			if st, err := os.Stat(path); err == nil && st.IsDir() {
-				path = filepath.Join(path, "bestfit.toml")
-			}
-			m, err := fit.ReadModel(path)
+			m, theta, err := probeBase(args[0], o.seed)
 			if err != nil {
 				return err
 			}
@@ -114,13 +112,13 @@ the report with its verdict.`,
 				if !ok {
 					return usagef("--models %q: want A.toml,B.toml", o.models)
 				}
-				mt, err := probeModelTest(a, b, data, g, o.evals, o.seed)
+				mt, err := probeModelTest(a, b, o.evals, o.seed)
 				if err != nil {
 					return err
 				}
 				opt.Models = mt
 			}
-			res, err := probe.Run(m, m.Start(), data, opt)
+			res, err := probe.Run(m, theta, data, opt)
 			if err != nil {
 				return err
 			}
@@ -172,19 +170,43 @@ func lensCentre(m *fit.Model) (x, y float64) {
 	return x, y
 }
 
-// probeModelTest fits the model files a (no central image) and b (one) to
-// data and compares them.
-func probeModelTest(a, b string, data []*uv.Dataset, g uv.Grid, evals int, seed uint64) (*probe.ModelTest, error) {
+// probeBase returns the model and free-parameter vector probed: the best
+// fit of a fit directory, or a model file at its start values.
+func probeBase(path string, seed uint64) (*fit.Model, []float64, error) {
+	if st, err := os.Stat(path); err == nil && st.IsDir() {
+		mf, err := probe.FromFitDir(path, filepath.Base(path), seed)
+		if err != nil {
+			return nil, nil, err
+		}
+		return mf.Model, mf.Theta, nil
+	}
+	m, err := fit.ReadModel(path)
+	if err != nil {
+		return nil, nil, err
+	}
+	return m, m.Start(), nil
+}
+
+// probeModelTest compares a (no central image) and b (one): fit
+// directories are read as they are, model files fitted here.
+func probeModelTest(a, b string, evals int, seed uint64) (*probe.ModelTest, error) {
 	var fits [2]*probe.ModelFit
 	for i, p := range []string{strings.TrimSpace(a), strings.TrimSpace(b)} {
-		m, err := fit.ReadModel(p)
-		if err != nil {
-			return nil, err
-		}
 		name := strings.TrimSuffix(filepath.Base(p), filepath.Ext(p))
-		f, err := probe.FitModel(context.Background(), name, m, data, g, evals, seed)
-		if err != nil {
-			return nil, err
+		var f *probe.ModelFit
+		if st, err := os.Stat(p); err == nil && st.IsDir() {
+			f, err = probe.FromFitDir(p, name, seed)
+			if err != nil {
+				return nil, err
+			}
+		} else {
+			m, err := fit.ReadModel(p)
+			if err != nil {
+				return nil, err
+			}
+			if f, err = probe.FitModel(context.Background(), name, m, evals, seed); err != nil {
+				return nil, err
+			}
 		}
 		fits[i] = f
 	}

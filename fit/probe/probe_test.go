@@ -228,12 +228,11 @@ func TestProbeRealCentralImage(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	g, _ := ModelGrid(mB, data, 128)
-	fa, err := FitModel(context.Background(), "singular", mA, data, g, 200, 1)
+	fa, err := FitModel(context.Background(), "singular", mA, 200, 1)
 	if err != nil {
 		t.Fatal(err)
 	}
-	fb, err := FitModel(context.Background(), "cored", mB, data, g, 200, 1)
+	fb, err := FitModel(context.Background(), "cored", mB, 200, 1)
 	if err != nil {
 		t.Fatal(err)
 	}
