@@ -115,15 +115,3 @@ func nfwFast(e *nfwEval, ax, ay, x, y []float64) int {
 //
 //go:noescape
 func shearDeflectAVX(p *shearParams, ax, ay, x, y *float64, n int)
-
-// shearFast adds the deflection of e at the first len(x)/8·8 points with
-// the assembly kernel and returns the number of points done.
-func shearFast(e *shearEval, ax, ay, x, y []float64) int {
-	n := len(x) &^ 7
-	if n == 0 {
-		return 0
-	}
-	p := shearParams{e.x0, e.y0, e.gc, e.gs}
-	shearDeflectAVX(&p, &ax[0], &ay[0], &x[0], &y[0], n)
-	return n
-}

@@ -14,5 +14,3 @@ func sieOne(e *sieEval, x, y float64) (ax, ay float64) { panic("lensmodel: no as
 func nfwOne(e *nfwEval, x, y float64) (ax, ay float64, ok bool) {
 	panic("lensmodel: no assembly kernels")
 }
-
-func shearFast(e *shearEval, ax, ay, x, y []float64) int { return 0 }
