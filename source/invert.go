@@ -135,8 +135,9 @@ type Inversion struct {
 	// exact.
 	LogDetError float64
 	// CGIterations counts the conjugate-gradient iterations of all solves
-	// on the matrix-free path (each one product with F).
-	CGIterations int
+	// on the matrix-free path, and LanczosSteps the Lanczos steps of its
+	// log-determinant estimates (each one product with F).
+	CGIterations, LanczosSteps int
 }
 
 // solver evaluates the evidence of a Normal with a Prior at any λ, reusing

@@ -268,6 +268,12 @@ type reconstruction struct {
 
 func newReconstruction(t *testing.T, rng *rand.Rand, noise float64, addNoise, adaptive bool) *reconstruction {
 	t.Helper()
+	return newReconstructionNodes(t, rng, noise, addNoise, adaptive, 18)
+}
+
+// newReconstructionNodes is newReconstruction with nodes×nodes source nodes.
+func newReconstructionNodes(t *testing.T, rng *rand.Rand, noise float64, addNoise, adaptive bool, nodes int) *reconstruction {
+	t.Helper()
 	g := testGrid{n: 40, pixel: 0.08}
 	sie := lensmodel.SIE{ThetaE: 1, Q: 0.75, PA: 30}
 	src := Source{Components: []Component{
@@ -309,10 +315,10 @@ func newReconstruction(t *testing.T, rng *rand.Rand, noise float64, addNoise, ad
 			mask = append(mask, k)
 		}
 	}
-	grid := RegularGrid(-0.6, 0.6, -0.6, 0.6, 18, 18)
+	grid := RegularGrid(-0.6, 0.6, -0.6, 0.6, nodes, nodes)
 	if adaptive {
 		bx, by := TraceMask(g, sie, mask, 2)
-		grid = AdaptiveGrid(bx, by, 18, 18, 0)
+		grid = AdaptiveGrid(bx, by, nodes, nodes, 0)
 	}
 	mp := NewMapping(g, sie, mask, grid, 2)
 	pf := newPolarFinder(sie, 2048)

@@ -3,8 +3,10 @@ package source
 import (
 	"math"
 	"math/rand/v2"
+	"os"
 	"slices"
 	"testing"
+	"time"
 
 	"gonum.org/v1/gonum/mat"
 )
@@ -111,6 +113,51 @@ func TestMatrixFreeAgreesWithDense(t *testing.T) {
 			}
 			within(t, "flux", mf.Flux, d.Flux, 1e-5)
 			within(t, "magnification", mf.Magnification, d.Magnification, 1e-5)
+		})
+	}
+}
+
+func TestMatrixFreeEvidenceSearchLong(t *testing.T) {
+	// Both paths search λ on a 32×32-node problem (1214 masked pixels):
+	// the same λ within the search tolerance (0.05 in ln λ), ln ε within
+	// 0.5 and within four stated standard errors, the source within 1e-3
+	// of its peak (the λ differ by up to the tolerance).
+	if os.Getenv("DEFLECT_LONG_TESTS") == "" {
+		t.Skip("set DEFLECT_LONG_TESTS=1 for the 1024-node evidence search on both paths")
+	}
+	rng := rand.New(rand.NewPCG(5, 5))
+	rc := newReconstructionNodes(t, rng, 0.02, true, false, 32)
+	nm := NewNormal([]Measurement{rc.meas}, rc.mp)
+	op := NewOperator([]Measurement{rc.meas}, rc.mp)
+	for _, kind := range []Regularization{Gradient, Curvature} {
+		t.Run(kind.String(), func(t *testing.T) {
+			prior, err := NewPrior(rc.grid, kind, 0)
+			if err != nil {
+				t.Fatal(err)
+			}
+			c0 := time.Now()
+			d, err := Invert(nm, prior, rc.grid, rc.mp, InvertOptions{NoErrors: true})
+			if err != nil {
+				t.Fatal(err)
+			}
+			c1 := time.Now()
+			mf, err := InvertMatrixFree(op, prior, rc.grid, rc.mp, InvertOptions{NoErrors: true})
+			if err != nil {
+				t.Fatal(err)
+			}
+			c2 := time.Now()
+			de, me := d.Evidence, mf.Evidence
+			t.Logf("%d nodes: λ dense %.4g, matrix-free %.4g; ln ε %.3f vs %.3f (ln det ± %.3f); %d vs %d evaluations, %d CG iterations; %v vs %v",
+				rc.grid.Len(), d.Lambda, mf.Lambda, de.LogEvidence, me.LogEvidence, mf.LogDetError, d.Evaluations, mf.Evaluations, mf.CGIterations, c1.Sub(c0), c2.Sub(c1))
+			if dl := math.Abs(math.Log(mf.Lambda / d.Lambda)); !(dl <= 0.05) {
+				t.Errorf("λ: matrix-free %.5g, dense %.5g (|Δ ln λ| = %.3g > 0.05)", mf.Lambda, d.Lambda, dl)
+			}
+			if dd := math.Abs(me.LogEvidence - de.LogEvidence); !(dd <= 0.5) || !(dd <= 2*mf.LogDetError+0.05) {
+				t.Errorf("ln ε: matrix-free %.4f (ln det ± %.3f), dense %.4f", me.LogEvidence, mf.LogDetError, de.LogEvidence)
+			}
+			for k := range d.Source {
+				within(t, "node", mf.Source[k], d.Source[k], 1e-3*maxAbs(d.Source))
+			}
 		})
 	}
 }
