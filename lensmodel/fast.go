@@ -1,15 +1,16 @@
 package lensmodel
 
-// Batch deflection kernels. On amd64 CPUs with AVX2 and FMA the
-// isothermal ellipsoid (q < 1, e = √(1 − q²) ≥ sieLogE) and the NFW halo
-// inside R < r_s/2 are evaluated by the assembly of
-// fast_amd64.s (written by gen_fast.go), eight at a time in two
-// interleaved groups; elsewhere the per-point methods are used. With the
-// kernels, the per-point deflection methods of these components call them
-// too, with the point in all lanes, so that batch and per-point values stay
-// equal bit for bit (the last len%8 points of a call are evaluated so). The kernels
-// follow the per-point formulas of sie.go and nfw.go with the elementary
-// functions written out:
+// Batch deflection kernels. On amd64 CPUs with AVX2 and FMA the isothermal
+// ellipsoid (q < 1, e = √(1 − q²) ≥ sieLogE), the NFW halo inside
+// R < r_s/2 and the external shear are evaluated by the assembly of
+// fast_amd64.s (written by gen_fast.go), eight points per loop iteration in
+// two interleaved groups of four; elsewhere the per-point formulas are used.
+// With the kernels, the per-point deflection methods of the SIE and NFW
+// call them too (a four-lane variant, the point in every lane), so that
+// batch and per-point values stay equal bit for bit; the last len%8 points
+// of a batch are evaluated so. The shear kernel repeats the per-point
+// arithmetic exactly. The SIE and NFW kernels follow the formulas of sie.go
+// and nfw.go with the elementary functions written out:
 //
 //   - atan: the range reduction and rational approximation of Go's
 //     math.Atan (Cephes), the reduced argument formed as one quotient;
@@ -24,7 +25,15 @@ package lensmodel
 //     w = −x²/(2p), in the small-x form of nfwH.
 //
 // fast_test.go bounds the difference between the kernels and the portable
-// formulas. Each point's value depends only on the point.
+// formulas (4e-15 |α| plus 1e-15 of the profile's deflection scale). Each
+// point's value depends only on the point.
+//
+// References:
+//   - Moshier S. L., 1989, Methods and Programs for Mathematical Functions
+//     (Prentice Hall), the Cephes library: atan's reduction at tan(3π/8)
+//     and 0.66 and its P/Q coefficients, as in Go's math/atan.go.
+//   - Sun Microsystems, 1993, FreeBSD msun e_log.c: ln(1 + f) = 2 atanh(s)
+//     with the polynomial L1…L7, as in Go's math/log.go.
 
 // useAVX selects the assembly kernels; the tests turn it off to compare.
 var useAVX = haveAVX

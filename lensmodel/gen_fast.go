@@ -1,12 +1,12 @@
 //go:build ignore
 
 // gen_fast writes fast_amd64.s: the batch deflection kernels of the
-// isothermal ellipsoid (SIE, singular or cored, q < 1) and of the NFW halo
-// with an elliptical potential (inside R < r_s/2), eight points per loop
-// iteration, four per 256-bit register, with AVX2 and FMA. Run with
-// `go run gen_fast.go` in this directory (go generate does). The algorithms are described beside the Go
-// declarations in fast_amd64.go; fast_test.go checks the kernels against
-// the per-point methods.
+// isothermal ellipsoid (SIE, singular or cored, q < 1), of the NFW halo
+// with an elliptical potential (inside R < r_s/2) and of the external
+// shear, eight points per loop iteration, four per 256-bit register, with
+// AVX2 and FMA. Run with `go run gen_fast.go` in this directory (go
+// generate does). The algorithms are described in fast.go; fast_test.go
+// checks the kernels against the per-point formulas.
 package main
 
 import (
