@@ -171,3 +171,25 @@ func TestRunResumeBitForBit(t *testing.T) {
 		t.Errorf("resume without a checkpoint: err = %v", err)
 	}
 }
+
+// TestRunMCMC runs a short ensemble fit: a capped chain is reported as not
+// converged, with its samples written.
+func TestRunMCMC(t *testing.T) {
+	m, dir := newTiny(t)
+	m.Fit.MaxSteps, m.Fit.Walkers = 60, 8
+	out := filepath.Join(dir, "mc")
+	r, err := Run(context.Background(), m, RunOptions{Method: "mcmc", OutDir: out, DerivedSamples: -1, NoMaps: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if r.MCMC == nil || r.MCMC.Walkers != 8 || r.Evidence != nil {
+		t.Fatalf("mcmc result: %+v", r.MCMC)
+	}
+	if r.Status != NotConverged.String() || !strings.Contains(strings.Join(r.Notes, " "), "not converged") {
+		t.Errorf("status %q, notes %q: want a not-converged warning", r.Status, r.Notes)
+	}
+	csv, _ := os.ReadFile(filepath.Join(out, PosteriorFile))
+	if lines := strings.Count(string(csv), "\n"); lines < 10 {
+		t.Errorf("posterior.csv has %d lines", lines)
+	}
+}
