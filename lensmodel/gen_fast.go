@@ -143,6 +143,8 @@ func main() {
 	defConst("sign", 0x8000000000000000)
 	defConst("mant", 0x000fffffffffffff)
 	defConst("two52", 0x4330000000000000)
+	defFloat("two52bias", 1<<52+1023)
+	defFloat("tiny", 0x1p-1022)
 	defFloat("one", 1)
 	defFloat("four", 4)
 	defFloat("half", 0.5)
@@ -244,39 +246,30 @@ func accumulate(g group, a1, a2, t0, t1 string) {
 	op("VMOVUPD", t1, g.at("R10"))
 }
 
-// logRatio writes ln(A/B) for A, B > 0 (normal numbers) to out, clobbering
-// A, B and the temporaries kk, t1, t2, t3. With A = 2^ka ma, B = 2^kb mb,
-// ma, mb in [1, 2), one of them doubled so that m = ma/mb lies in
-// [1/√2, √2], ln(A/B) = k ln 2 + 2 atanh(s) with s = (ma − mb)/(ma + mb),
-// |s| ≤ 0.1716, and 2 atanh(s) = 2s + s R(s²) with the polynomial R of Go's
-// math.Log (after FreeBSD e_log.c). ma − mb is exact (Sterbenz).
+// logRatio writes ln(A/B) to out for A, B > 0 with A/B normal or +Inf,
+// clobbering A, B and the temporaries kk, t1, t2, t3. The ratio is clamped
+// to r = max(A/B, 1) (the SIE's ratio is ≥ 1 but for rounding, the NFW's
+// > 4; 0/0 at the centre of the singular SIE becomes 1). With r = 2^k m,
+// m in [1, 2), halved (k + 1) when above √2, ln r = k ln 2 + 2 atanh(s),
+// s = (m − 1)/(m + 1), |s| ≤ 0.1716, and 2 atanh(s) = 2s + s R(s²) with
+// the polynomial R of Go's math.Log (after FreeBSD e_log.c); m − 1 is
+// exact (Sterbenz).
 func logRatio(out, A, B, kk, t1, t2, t3 string) {
+	div(A, A, B)
+	op("VMAXPD", k("one"), A, A) // max(r, 1), 1 for NaN
 	op("VPSRLQ", "$52", A, kk)
-	op("VPSRLQ", "$52", B, t1)
 	op("VPOR", k("two52"), kk, kk)
-	op("VPOR", k("two52"), t1, t1)
-	sub(kk, kk, t1) // k = ka − kb, exact
+	sub(kk, kk, k("two52bias")) // k = E − 1023, exact
 	and(A, A, k("mant"))
-	or(A, A, k("one"))
-	and(B, B, k("mant"))
-	or(B, B, k("one"))
-	// ma > √2 mb: double mb, k += 1.
-	mul(t1, B, k("sqrt2"))
-	cmp(t2, A, t1, predGT)
-	add(t1, B, B)
-	blend(B, B, t1, t2)
-	and(t2, t2, k("one"))
-	add(kk, kk, t2)
-	// mb > √2 ma: double ma, k −= 1.
-	mul(t1, A, k("sqrt2"))
-	cmp(t2, B, t1, predGT)
-	add(t1, A, A)
+	or(A, A, k("one")) // m
+	cmp(t2, A, k("sqrt2"), predGT)
+	mul(t1, A, k("half"))
 	blend(A, A, t1, t2)
 	and(t2, t2, k("one"))
-	sub(kk, kk, t2)
+	add(kk, kk, t2)
 	// s in t1, s² in t2, s⁴ in t3.
-	sub(t1, A, B)
-	add(t2, A, B)
+	sub(t1, A, k("one"))
+	add(t2, A, k("one"))
 	div(t1, t1, t2)
 	mul(t2, t1, t1)
 	mul(t3, t2, t2)
@@ -355,8 +348,8 @@ func sieGroup(g group) {
 	op("VMOVUPD", r[2], g.slot(0))
 	op("VMOVUPD", r[3], g.slot(1))
 	// ξ = √(q² (s² + x'²) + y'²), ps = ξ + s.
-	mul(r[4], r[2], r[2])
-	add(r[4], r[4], p(5))
+	op("VMOVUPD", p(5), r[4])
+	fma231(r[4], r[2], r[2])
 	mul(r[4], r[4], p(4))
 	fma231(r[4], r[3], r[3])
 	op("VSQRTPD", r[4], r[4])
@@ -378,12 +371,10 @@ func sieGroup(g group) {
 	xor(r[0], r[5], k("sign"))
 	blend(r[4], r[4], r[0], r[7])
 	blend(r[2], r[2], r[6], r[7])
+	// At the centre of the singular ellipsoid N = D = 0: the quotient
+	// 0/max(D, tiny) is 0.
+	op("VMAXPD", k("tiny"), r[2], r[2])
 	div(r[4], r[4], r[2])
-	// At the centre of the singular ellipsoid (ps = 0) the quotient is 0/0:
-	// zero it.
-	op("VXORPD", r[1], r[1], r[1])
-	cmp(r[1], r[5], r[1], predNEQ)
-	and(r[4], r[4], r[1])
 	// xatan: x + x z P(z)/Q(z), z = x².
 	mul(r[0], r[4], r[4])
 	op("VMOVUPD", k("P0"), r[1])
