@@ -14,11 +14,10 @@ package lensmodel
 //
 //   - atan: the range reduction and rational approximation of Go's
 //     math.Atan (Cephes), the reduced argument formed as one quotient;
-//   - ln(A/B): A and B split into exponent and mantissa, the mantissas
-//     paired so that their ratio m lies in [1/√2, √2], and
-//     ln m = 2 atanh(s), s = (ma − mb)/(ma + mb), with the polynomial of
-//     Go's math.Log (FreeBSD e_log.c) — one division for quotient and
-//     logarithm together;
+//   - ln(A/B): r = max(A/B, 1) (the SIE's ratio is ≥ 1 but for rounding,
+//     the NFW's > 4) split as 2^k m, m in [1/√2, √2], and
+//     ln m = 2 atanh(s), s = (m − 1)/(m + 1), with the polynomial of Go's
+//     math.Log (FreeBSD e_log.c);
 //   - NFW, x = R/r_s < ½: 4h(x)/x² = (4/s) [ln(2/x)/p − 2S/d] with
 //     s = √(1 − x²), p = 1 + s, d = 4p − x², S = Σ_j z^{2j}/(2j + 1),
 //     z = x²/d ≤ 0.035 (seven terms), from ln1p(w) = 2 atanh(w/(2 + w)),
