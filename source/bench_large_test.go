@@ -88,9 +88,36 @@ func BenchmarkPixelSourceLarge(b *testing.B) {
 		}
 		reportCPU(b, c0)
 	})
-	inv, err := InvertMatrixFree(op, prior, grid, mp, InvertOptions{Lambda: 1e3, NoErrors: true, Probes: 16, ProbePeriod: 4, LanczosSteps: 60})
+	inv, err := InvertMatrixFree(op, prior, grid, mp, InvertOptions{NoErrors: true})
 	if err != nil {
 		b.Fatal(err)
 	}
-	b.Logf("λ = 1e3: %d CG iterations, %d Lanczos steps, ln ε %.2f, ln det ± %.2f", inv.CGIterations, inv.LanczosSteps, inv.Evidence.LogEvidence, inv.LogDetError)
+	b.Logf("evidence λ = %.4g: %d evaluations, %d CG iterations, %d Lanczos steps, ln det ± %.2f",
+		inv.Lambda, inv.Evaluations, inv.CGIterations, inv.LanczosSteps, inv.LogDetError)
+	for _, tc := range []struct {
+		name string
+		opt  InvertOptions
+	}{
+		// mapping, operator, one CG solve and the SLQ evidence
+		{"fixed-lambda", InvertOptions{Lambda: inv.Lambda, NoErrors: true}},
+		// the same with σ and N_eff (36 more CG solves)
+		{"fixed-lambda-sigma", InvertOptions{Lambda: inv.Lambda}},
+		// λ search started from a nearby value, as in a fit
+		{"warm-lambda", InvertOptions{LambdaStart: 1.3 * inv.Lambda, NoErrors: true}},
+	} {
+		b.Run(tc.name, func(b *testing.B) {
+			var last *Inversion
+			c0 := processCPU()
+			for b.Loop() {
+				mp := NewMapping(g, groupLens, mask, grid, 2)
+				op := NewOperator([]Measurement{meas}, mp)
+				if last, err = InvertMatrixFree(op, prior, grid, mp, tc.opt); err != nil {
+					b.Fatal(err)
+				}
+			}
+			reportCPU(b, c0)
+			b.ReportMetric(float64(last.Evaluations), "evaluations")
+			b.ReportMetric(float64(last.CGIterations+last.LanczosSteps), "products")
+		})
+	}
 }

@@ -150,6 +150,22 @@ func BenchmarkPixelSource(b *testing.B) {
 		reportCPU(b, c0)
 		b.ReportMetric(float64(evals), "factorisations")
 	})
+	b.Run("matrix-free-evidence-lambda", func(b *testing.B) {
+		// the same search on the matrix-free path, for comparison
+		var last *Inversion
+		c0 := processCPU()
+		for b.Loop() {
+			mp := NewMapping(g, groupLens, mask, grid, 2)
+			op := NewOperator([]Measurement{meas}, mp)
+			var err error
+			if last, err = InvertMatrixFree(op, prior, grid, mp, InvertOptions{NoErrors: true}); err != nil {
+				b.Fatal(err)
+			}
+		}
+		reportCPU(b, c0)
+		b.ReportMetric(float64(last.Evaluations), "evaluations")
+		b.ReportMetric(float64(last.CGIterations+last.LanczosSteps), "products")
+	})
 	b.Run("warm-lambda", func(b *testing.B) {
 		// λ search started from a nearby value, as from the previous lens
 		// model in a fit
