@@ -4,6 +4,9 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"runtime"
+	"sync"
+	"sync/atomic"
 
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
@@ -67,6 +70,7 @@ type mfSolver struct {
 		logErr float64
 	}
 	lastErr float64 // standard error of the last ln det estimate
+	work    []*lanczosWork
 	// The preconditioner M = λR + diag F, a band matrix of half-width kd
 	// (that of R on the node lattice), factorised M = UᵀU.
 	kd      int
@@ -247,84 +251,58 @@ func (sv *mfSolver) pcg(x, b []float64, lambda, tol float64) error {
 	}
 }
 
+// lanczosWork is one goroutine's share of the log-determinant estimate.
+type lanczosWork struct {
+	op          *Operator
+	t1, z, w    []float64
+	q           [][]float64
+	alpha, beta []float64
+}
+
 // logDet estimates ln det(F + λR) = ln det M + tr ln Ã with
 // Ã = U⁻ᵀ(F + λR)U⁻¹, M = UᵀU the preconditioner, by stochastic Lanczos
 // quadrature: for each probe z, m Lanczos steps from z/|z| give the
 // tridiagonal T_m = U Θ Uᵀ and zᵀ ln(Ã) z ≈ |z|² Σ_j U_0j² ln θ_j (Gauss
-// quadrature), averaged over the probes. Lanczos vectors are fully
+// quadrature), summed over each round of probes. Lanczos vectors are fully
 // reorthogonalised; a probe stops when its estimate changes by less than
-// 1e-3 over five steps, or at maxLan steps. It returns the estimate and
-// its standard error from the scatter over probes.
+// 0.01 over five steps, or at maxLan steps. The probes run in parallel
+// over runtime.GOMAXPROCS(0) goroutines, each probe's value independent of
+// which one ran it. It returns the estimate and its standard error from
+// the scatter over rounds.
 func (sv *mfSolver) logDet(lambda float64) (est, stderr float64, err error) {
 	n := sv.op.Len()
-	base := sv.logDetM
 	m := min(sv.maxLan, n)
-	q := make([][]float64, 0, m+1)
-	for range m + 1 {
-		q = append(q, make([]float64, n))
+	nw := max(1, min(runtime.GOMAXPROCS(0), len(sv.probes)))
+	for len(sv.work) < nw {
+		wk := &lanczosWork{op: sv.op.clone(), t1: make([]float64, n), z: make([]float64, n), w: make([]float64, n),
+			alpha: make([]float64, m), beta: make([]float64, m)}
+		for range m + 1 {
+			wk.q = append(wk.q, make([]float64, n))
+		}
+		sv.work = append(sv.work, wk)
 	}
-	alpha, beta := make([]float64, m), make([]float64, m)
-	w := sv.t2
 	vals := make([]float64, len(sv.probes))
-	for l, z := range sv.probes {
-		var zz float64
-		for _, v := range z {
-			zz += v * v
-		}
-		nz := math.Sqrt(zz)
-		for k, v := range z {
-			q[0][k] = v / nz
-		}
-		prev := math.Inf(1)
-		var cur float64
-		for j := 0; j < m; j++ {
-			// w = U⁻ᵀ (F + λR) U⁻¹ q_j
-			copy(sv.z, q[j])
-			blas64.Tbsv(blas.NoTrans, sv.fac, blas64.Vector{N: n, Inc: 1, Data: sv.z})
-			sv.apply(w, sv.z, lambda)
-			blas64.Tbsv(blas.Trans, sv.fac, blas64.Vector{N: n, Inc: 1, Data: w})
-			var a float64
-			for k := range n {
-				a += q[j][k] * w[k]
-			}
-			alpha[j] = a
-			// Classical Gram–Schmidt against every Lanczos vector, twice.
-			for range 2 {
-				for i := 0; i <= j; i++ {
-					var c float64
-					for k := range n {
-						c += q[i][k] * w[k]
-					}
-					for k := range n {
-						w[k] -= c * q[i][k]
-					}
+	steps := make([]int, len(sv.probes))
+	errs := make([]error, len(sv.probes))
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	for _, wk := range sv.work[:nw] {
+		wg.Go(func() {
+			for {
+				l := int(next.Add(1)) - 1
+				if l >= len(sv.probes) {
+					return
 				}
+				vals[l], steps[l], errs[l] = sv.lanczos(wk, sv.probes[l], lambda, m)
 			}
-			var bb float64
-			for _, v := range w {
-				bb += v * v
-			}
-			beta[j] = math.Sqrt(bb)
-			done := beta[j] <= 1e-12*math.Abs(a) || j == m-1
-			if done && (j+1)%5 != 0 {
-				sv.steps += j + 1
-			}
-			if (j+1)%5 == 0 || done {
-				cur, err = gaussLog(alpha[:j+1], beta[:j])
-				if err != nil {
-					return 0, 0, fmt.Errorf("%w at λ = %g", err, lambda)
-				}
-				if done || math.Abs(cur-prev)*zz < 1e-2 {
-					sv.steps += j + 1
-					break
-				}
-				prev = cur
-			}
-			for k := range n {
-				q[j+1][k] = w[k] / beta[j]
-			}
+		})
+	}
+	wg.Wait()
+	for l := range vals {
+		if errs[l] != nil {
+			return 0, 0, fmt.Errorf("%w at λ = %g", errs[l], lambda)
 		}
-		vals[l] = zz * cur
+		sv.steps += steps[l]
 	}
 	// Each round of probes is an unbiased estimate of tr ln Ã.
 	per := len(vals) / sv.rounds
@@ -341,7 +319,71 @@ func (sv *mfSolver) logDet(lambda float64) (est, stderr float64, err error) {
 		ss += (v - mean) * (v - mean)
 	}
 	stderr = math.Sqrt(ss / float64(sv.rounds-1) / float64(sv.rounds))
-	return base + mean, stderr, nil
+	return sv.logDetM + mean, stderr, nil
+}
+
+// lanczos returns the Gauss-quadrature estimate of zᵀ ln(Ã) z and the
+// steps it took.
+func (sv *mfSolver) lanczos(wk *lanczosWork, z []float64, lambda float64, m int) (float64, int, error) {
+	n := len(z)
+	q, w := wk.q, wk.w
+	var zz float64
+	for _, v := range z {
+		zz += v * v
+	}
+	nz := math.Sqrt(zz)
+	for k, v := range z {
+		q[0][k] = v / nz
+	}
+	prev := math.Inf(1)
+	for j := 0; j < m; j++ {
+		// w = U⁻ᵀ (F + λR) U⁻¹ q_j
+		copy(wk.z, q[j])
+		blas64.Tbsv(blas.NoTrans, sv.fac, blas64.Vector{N: n, Inc: 1, Data: wk.z})
+		wk.op.Apply(w, wk.z)
+		sv.sp.mulVec(wk.t1, wk.z)
+		for k := range w {
+			w[k] += lambda * wk.t1[k]
+		}
+		blas64.Tbsv(blas.Trans, sv.fac, blas64.Vector{N: n, Inc: 1, Data: w})
+		var a float64
+		for k := range n {
+			a += q[j][k] * w[k]
+		}
+		wk.alpha[j] = a
+		// Classical Gram–Schmidt against every Lanczos vector, twice.
+		for range 2 {
+			for i := 0; i <= j; i++ {
+				var c float64
+				for k := range n {
+					c += q[i][k] * w[k]
+				}
+				for k := range n {
+					w[k] -= c * q[i][k]
+				}
+			}
+		}
+		var bb float64
+		for _, v := range w {
+			bb += v * v
+		}
+		wk.beta[j] = math.Sqrt(bb)
+		done := wk.beta[j] <= 1e-12*math.Abs(a) || j == m-1
+		if (j+1)%5 == 0 || done {
+			cur, err := gaussLog(wk.alpha[:j+1], wk.beta[:j])
+			if err != nil {
+				return 0, 0, err
+			}
+			if done || math.Abs(cur-prev)*zz < 1e-2 {
+				return zz * cur, j + 1, nil
+			}
+			prev = cur
+		}
+		for k := range n {
+			q[j+1][k] = w[k] / wk.beta[j]
+		}
+	}
+	panic("source: unreachable")
 }
 
 // gaussLog returns e₁ᵀ ln(T) e₁ for the symmetric tridiagonal T with

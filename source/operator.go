@@ -181,3 +181,16 @@ func (op *Operator) Chi2(s []float64) float64 {
 	}
 	return c
 }
+
+// clone returns an operator sharing op's data with its own workspace and
+// FFT plans, for use in another goroutine.
+func (op *Operator) clone() *Operator {
+	c := *op
+	c.img = make([]float64, len(op.img))
+	c.box = make([]float64, len(op.box))
+	c.terms = make([]opTerm, len(op.terms))
+	for i, t := range op.terms {
+		c.terms[i] = opTerm{gain: t.gain, conv: t.conv.Clone()}
+	}
+	return &c
+}

@@ -142,3 +142,16 @@ func (c *Conv) Apply(dst, src []float64) []float64 {
 	}
 	return dst
 }
+
+// Clone returns a plan sharing c's kernel spectrum with its own FFT work
+// space, for use in another goroutine.
+func (c *Conv) Clone() *Conv {
+	d := *c
+	d.rows = fourier.NewFFT(c.px)
+	d.cols = fourier.NewCmplxFFT(c.py)
+	d.buf = make([]float64, c.px)
+	d.spec = make([]complex128, c.py*c.hx)
+	d.col = make([]complex128, c.py)
+	d.colOut = make([]complex128, c.py)
+	return &d
+}

@@ -62,6 +62,13 @@ func TestConvMatchesDirectSum(t *testing.T) {
 					}
 				}
 			}
+			// A clone gives the same, bit for bit.
+			cl := c.Clone().Apply(nil, src)
+			for q := range cl {
+				if cl[q] != got[q] {
+					t.Fatalf("clone's result differs at %d", q)
+				}
+			}
 			// In place gives the same.
 			in := append([]float64(nil), src...)
 			c.Apply(in, in)
