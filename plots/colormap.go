@@ -43,41 +43,23 @@ func to8(v float64) uint8 {
 }
 
 // Viridis is the perceptually uniform, colour-blind-safe sequential map
-// of van der Walt & Smith, evaluated from a degree-6 least-squares
-// polynomial fit to its published 256-entry sRGB table (CC0), per channel:
-//
-//	c(t) = Σ_k a_k t^k,  k = 0…6
-//
-// The fit reproduces the published table to within 0.02 per channel
-// (checked in the tests against the published ten-step samples); CIE L*
-// of the unquantised colours increases strictly from about 16 at t = 0 to
-// 92 at t = 1 (by ≈ 0.3 per entry, comparable with one 8-bit step, so the
-// 8-bit table is monotone only to within quantisation). Used for every
-// intensity image and for log |μ|.
+// of van der Walt & Smith: their published 256-entry sRGB table (CC0),
+// entry k at t = k/255, in viridis_table.go (generated from the table as
+// matplotlib ships it by testdata/gen_viridis.py). CIE L* rises from about
+// 16 at t = 0 to 92 at t = 1. Used for every intensity image and for
+// log |μ|.
 //
 // References:
 //   - S. van der Walt & N. Smith (2015), "A better default colormap for
 //     Matplotlib", SciPy 2015; the viridis table, CC0.
-var Viridis = newColorMap("viridis (polynomial fit)", viridis)
+var Viridis = newColorMap("viridis", viridis)
 
-var viridisCoef = [3][7]float64{
-	{0.2777273272234177, 0.1050930431085774, -0.3308618287255563, -4.634230498983486, 6.228269936347081, 4.776384997670288, -5.435455855934631},
-	{0.005407344544966578, 1.404613529898575, 0.214847559468213, -5.799100973351585, 14.17993336680509, -13.74514537774601, 4.645852612178535},
-	{0.3340998053353061, 1.384590162594685, 0.09509516302823659, -19.33244095627987, 56.69055260068105, -65.35303263337234, 26.3124352495832},
-}
+//go:generate /usr/bin/python3 testdata/gen_viridis.py -o viridis_table.go
 
-func viridis(t float64) (r, g, b float64) { return viridisPoly(t) }
-
-func viridisPoly(t float64) (r, g, b float64) {
-	var c [3]float64
-	for ch := range c {
-		a := viridisCoef[ch]
-		v := a[6]
-		for k := 5; k >= 0; k-- {
-			v = v*t + a[k]
-		}
-		c[ch] = v
-	}
+// viridis returns table entry round(255 t); the map is only ever sampled
+// at t = k/255.
+func viridis(t float64) (r, g, b float64) {
+	c := viridisTable[int(math.Round(255*math.Max(0, math.Min(1, t))))]
 	return c[0], c[1], c[2]
 }
 

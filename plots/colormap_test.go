@@ -4,6 +4,9 @@ import (
 	"fmt"
 	"image/color"
 	"math"
+	"os/exec"
+	"strconv"
+	"strings"
 	"testing"
 )
 
@@ -31,21 +34,66 @@ func lightnessF(r, g, b float64) float64 {
 }
 
 func TestViridisMatchesPublishedSamples(t *testing.T) {
-	// The ten-step viridis samples (table entries at t = k/9), from memory of
-	// the published table (as listed by the viridisLite R package):
-	// tolerance 0.02 per channel, i.e. about 5 of 255.
+	// The ten-step viridis samples (table entries round(255 k/9)), from
+	// memory of the published table as listed by the viridisLite R package:
+	// tolerance one 8-bit level per channel (viridisLite interpolates the
+	// table at k/9 rather than taking the nearest entry).
 	want := []uint32{0x440154, 0x482878, 0x3e4a89, 0x31688e, 0x26828e,
 		0x1f9e89, 0x35b779, 0x6dcd59, 0xb4de2c, 0xfde725}
 	for k, hex := range want {
 		t.Run(fmt.Sprintf("t=%d/9", k), func(t *testing.T) {
-			r, g, b := viridis(float64(k) / 9)
-			w := [3]float64{float64(hex>>16) / 255, float64(hex>>8&0xff) / 255, float64(hex&0xff) / 255}
-			for ch, got := range [3]float64{r, g, b} {
-				if math.Abs(got-w[ch]) > 0.02 {
-					t.Errorf("channel %d = %.4f, want %.4f ± 0.02", ch, got, w[ch])
+			got := Viridis.At(float64(k) / 9)
+			w := [3]int{int(hex >> 16), int(hex >> 8 & 0xff), int(hex & 0xff)}
+			for ch, g := range [3]uint8{got.R, got.G, got.B} {
+				if d := int(g) - w[ch]; d < -1 || d > 1 {
+					t.Errorf("channel %d = %d, want %d ± 1", ch, g, w[ch])
 				}
 			}
 		})
+	}
+	// The end entries of the published table, from memory (six decimals
+	// as published; tolerance 1e-9, i.e. exact).
+	for _, tc := range []struct {
+		k   int
+		rgb [3]float64
+	}{{0, [3]float64{0.267004, 0.004874, 0.329415}}, {255, [3]float64{0.993248, 0.906157, 0.143936}}} {
+		for ch, v := range Viridis.rgb[tc.k] {
+			if math.Abs(v-tc.rgb[ch]) > 1e-9 {
+				t.Errorf("entry %d channel %d = %v, want %v", tc.k, ch, v, tc.rgb[ch])
+			}
+		}
+	}
+}
+
+// TestViridisMatchesMatplotlib compares the table with the one matplotlib
+// ships (_cm_listed._viridis_data, six decimals, exact match wanted),
+// when /usr/bin/python3 imports matplotlib (Debian python3-matplotlib);
+// it is skipped otherwise.
+func TestViridisMatchesMatplotlib(t *testing.T) {
+	const py = "/usr/bin/python3"
+	script := "from matplotlib import _cm_listed as c\nfor r, g, b in c._viridis_data: print(repr(r), repr(g), repr(b))\n"
+	out, err := exec.Command(py, "-c", script).Output()
+	if err != nil {
+		t.Skipf("%s cannot import matplotlib (%v); apt-get install python3-matplotlib to run this check", py, err)
+	}
+	lines := strings.Split(strings.TrimSpace(string(out)), "\n")
+	if len(lines) != 256 {
+		t.Fatalf("matplotlib listed %d viridis entries, want 256", len(lines))
+	}
+	for k, l := range lines {
+		f := strings.Fields(l)
+		if len(f) != 3 {
+			t.Fatalf("matplotlib line %d: %q", k+1, l)
+		}
+		for ch, s := range f {
+			v, err := strconv.ParseFloat(s, 64)
+			if err != nil {
+				t.Fatalf("matplotlib line %d: %v", k+1, err)
+			}
+			if got := Viridis.rgb[k][ch]; got != v {
+				t.Errorf("entry %d channel %d = %v, matplotlib %v", k, ch, got, v)
+			}
+		}
 	}
 }
 
