@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"image/color"
 	"math"
+	"strconv"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
@@ -200,6 +201,7 @@ func VisibilityFigure(in Visibilities) (*Figure, error) {
 		}
 		top.Legend.Top = true
 		top.X.Min, top.X.Max = 0, xmax
+		part.clampY(top)
 		if in.Shift != nil && c == 1 {
 			top.Add(textPanel{lines: []string{fmt.Sprintf("phase centre at (%s, %s) arcsec", fmtG(in.Shift.X), fmtG(in.Shift.Y))}, right: true, col: black})
 		}
@@ -214,6 +216,7 @@ func VisibilityFigure(in Visibilities) (*Figure, error) {
 		}
 		bot.Add(zeroLine())
 		bot.X.Min, bot.X.Max = 0, xmax
+		part.clampY(bot)
 		grid.plots[1][c] = bot
 	}
 	f := &Figure{Width: PageWidth, Height: 3.2 * vg.Inch}
@@ -225,11 +228,43 @@ func VisibilityFigure(in Visibilities) (*Figure, error) {
 }
 
 // visPart is one column of the visibility figure: how to read the data,
-// model and error of a bin in display units, and the residual.
+// model and error of a bin in display units, and the residual. When limit
+// is positive the y axes show at most [−limit, limit], whatever the error
+// bars reach (they are clipped at the axes).
 type visPart struct {
 	name, resName string
 	val, mod, err func(b VisBin) float64
 	diff          func(data, model float64) float64
+	limit         float64
+}
+
+// clampY limits p's y range to [−limit, limit], and labels a range of
+// 180 or more every 90 (phases in degrees).
+func (vp visPart) clampY(p *plot.Plot) {
+	if vp.limit <= 0 {
+		return
+	}
+	p.Y.Min, p.Y.Max = math.Max(p.Y.Min, -vp.limit), math.Min(p.Y.Max, vp.limit)
+	if p.Y.Max-p.Y.Min >= 180 {
+		p.Y.Tick.Marker = stepTicks{step: 90}
+	}
+}
+
+// stepTicks labels the multiples of step in range, with an unlabelled
+// tick halfway between.
+type stepTicks struct{ step float64 }
+
+func (st stepTicks) Ticks(lo, hi float64) []plot.Tick {
+	var ts []plot.Tick
+	for k := math.Ceil(2 * lo / st.step); k*st.step/2 <= hi; k++ {
+		v := k * st.step / 2
+		t := plot.Tick{Value: v}
+		if math.Mod(k, 2) == 0 {
+			t.Label = minusSign(strconv.FormatFloat(v, 'f', -1, 64))
+		}
+		ts = append(ts, t)
+	}
+	return ts
 }
 
 func minus(d, m float64) float64 { return d - m }
@@ -237,24 +272,25 @@ func minus(d, m float64) float64 { return d - m }
 var reImParts = []visPart{
 	{"Re V (mJy)", "data − model (mJy)",
 		func(b VisBin) float64 { return 1e3 * b.Re }, func(b VisBin) float64 { return 1e3 * b.ModelRe },
-		func(b VisBin) float64 { return 1e3 * b.Err }, minus},
+		func(b VisBin) float64 { return 1e3 * b.Err }, minus, 0},
 	{"Im V (mJy)", "data − model (mJy)",
 		func(b VisBin) float64 { return 1e3 * b.Im }, func(b VisBin) float64 { return 1e3 * b.ModelIm },
-		func(b VisBin) float64 { return 1e3 * b.Err }, minus},
+		func(b VisBin) float64 { return 1e3 * b.Err }, minus, 0},
 }
 
 // ampPhaseParts reads amplitude |V̄| with error σ, and phase arg V̄ in
 // degrees with the high signal-to-noise error σ/|V̄| rad (capped at 180°);
-// phase residuals are wrapped into (−180°, 180°].
+// phase residuals are wrapped into (−180°, 180°], and the phase axes show
+// no more than [−180°, 180°].
 var ampPhaseParts = []visPart{
 	{"|V| (mJy)", "data − model (mJy)",
 		func(b VisBin) float64 { return 1e3 * math.Hypot(b.Re, b.Im) }, func(b VisBin) float64 { return 1e3 * math.Hypot(b.ModelRe, b.ModelIm) },
-		func(b VisBin) float64 { return 1e3 * b.Err }, minus},
+		func(b VisBin) float64 { return 1e3 * b.Err }, minus, 0},
 	{"phase (deg)", "data − model (deg)",
 		func(b VisBin) float64 { return math.Atan2(b.Im, b.Re) * 180 / math.Pi },
 		func(b VisBin) float64 { return math.Atan2(b.ModelIm, b.ModelRe) * 180 / math.Pi },
 		func(b VisBin) float64 { return math.Min(180, b.Err/math.Hypot(b.Re, b.Im)*180/math.Pi) },
-		func(d, m float64) float64 { return wrapDegrees(d - m) }},
+		func(d, m float64) float64 { return wrapDegrees(d - m) }, 180},
 }
 
 // wrapDegrees maps an angle in degrees into (−180, 180].

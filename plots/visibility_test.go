@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"testing"
 )
 
@@ -156,5 +157,50 @@ func TestAmpPhaseParts(t *testing.T) {
 	v.AmpPhase = true
 	if _, err := VisibilityFigure(v); err != nil {
 		t.Fatal(err)
+	}
+}
+
+// TestPhaseAxisClamped draws the amplitude–phase figure of a faint source
+// of phase 180° (−1 mJy, noise 3 mJy per visibility, few per bin): bin
+// phases scatter about ±180° with error bars capped at 180°, which reach
+// ±360°. The phase axes of the data and residual panels must still show
+// no more than [−180°, 180°], labelled every 90°.
+func TestPhaseAxisClamped(t *testing.T) {
+	in := faintVisFixture(160)
+	bins, err := BinVisibilities(in)
+	if err != nil {
+		t.Fatal(err)
+	}
+	reach := 0.0
+	ph := ampPhaseParts[1]
+	for _, b := range bins {
+		reach = math.Max(reach, math.Abs(ph.val(b))+ph.err(b))
+	}
+	if reach <= 200 {
+		t.Fatalf("fixture's phase error bars reach only %.0f°; the test needs some beyond 180°", reach)
+	}
+	f, err := VisibilityFigure(in)
+	if err != nil {
+		t.Fatal(err)
+	}
+	g := f.panels[0].d.(plotGrid)
+	for r, name := range []string{"phase", "phase residual"} {
+		p := g.plots[r][1]
+		if p.Y.Min < -180 || p.Y.Max > 180 {
+			t.Errorf("%s axis %.1f…%.1f°, want within ±180°", name, p.Y.Min, p.Y.Max)
+		}
+		var labels []string
+		for _, tk := range p.Y.Tick.Marker.Ticks(p.Y.Min, p.Y.Max) {
+			if tk.Label != "" {
+				labels = append(labels, tk.Label)
+			}
+		}
+		if p.Y.Max-p.Y.Min >= 180 && !slices.Contains(labels, "90") {
+			t.Errorf("%s axis labels %q: want multiples of 90°", name, labels)
+		}
+	}
+	img, _ := renderPNG(t, f)
+	if b := img.Bounds(); b.Dx() != pixelsFor(f.Width) {
+		t.Errorf("PNG width %d", b.Dx())
 	}
 }
