@@ -91,6 +91,10 @@ var figureCases = []figureCase{
 		in.AmpPhase = true
 		return func() (*Figure, error) { return VisibilityFigure(in) }
 	}},
+	{"visibilities-faint", func(n int) func() (*Figure, error) {
+		in := faintVisFixture(n * 4)
+		return func() (*Figure, error) { return VisibilityFigure(in) }
+	}},
 	{"dirty", func(n int) func() (*Figure, error) {
 		in := dirtyFixture(n)
 		return func() (*Figure, error) { return DirtyFigure(in) }
@@ -100,6 +104,27 @@ var figureCases = []figureCase{
 		in.Zoom = &Box{XMin: -1, XMax: 1, YMin: -1, YMax: 1}
 		in.Sigma = 0
 		return func() (*Figure, error) { return DirtyFigure(in) }
+	}},
+	{"sky", func(n int) func() (*Figure, error) {
+		d := dirtyFixture(n)
+		// A Gaussian main lobe of the beam's shape (FWHM Major × Minor at
+		// PA) with a negative ring sidelobe,
+		// peak 1, on a grid centred at the origin.
+		bm := SkyImage{N: n, Pixel: d.Data.Pixel, Values: make([]float64, n*n)}
+		for j := range n {
+			for i := range n {
+				x, y := bm.XY(i, j)
+				s, c := math.Sincos(d.Beam.PA * math.Pi / 180)
+				r := math.Hypot((x*s+y*c)/d.Beam.Major, (x*c-y*s)/d.Beam.Minor)
+				bm.Values[j*n+i] = math.Exp(-4*math.Ln2*r*r) - 0.1*math.Exp(-(r-2)*(r-2))
+			}
+		}
+		zoom := &Box{XMin: -1, XMax: 1, YMin: -1, YMax: 1}
+		in := []SkyPanel{
+			{Title: "dirty image", Image: d.Data, Scale: 1e3, Unit: "mJy/beam", Beam: d.Beam, Curves: d.Critical, Marks: []Point{{0.4, 0.3}}},
+			{Title: "dirty beam", Image: bm, Unit: "dirty beam (peak 1)", Beam: d.Beam, BeamAtCentre: true, Zoom: zoom},
+		}
+		return func() (*Figure, error) { return SkyFigure(in...) }
 	}},
 	{"source", func(n int) func() (*Figure, error) {
 		in := SourceImage{Image: sourceFixture(n), Unit: "mJy/pixel", Scale: 1e3, Caustics: []Polyline{astroid(0.3, 200)}}
@@ -187,6 +212,23 @@ func visFixture(n int) Visibilities {
 		v.Weight = append(v.Weight, 1/(sigma*sigma))
 	}
 	return v
+}
+
+// faintVisFixture is m visibilities of a −1 mJy point source at the phase
+// centre (phase 180°) with 3 mJy noise per part, model the truth, drawn as
+// amplitude and phase: a case whose phase error bars pass ±180°.
+func faintVisFixture(m int) Visibilities {
+	rng := rand.New(rand.NewPCG(1, 1))
+	const sigma = 3e-3
+	in := Visibilities{AmpPhase: true}
+	for range m {
+		u, v := (2*rng.Float64()-1)*5e5, (2*rng.Float64()-1)*5e5
+		in.U, in.V = append(in.U, u), append(in.V, v)
+		in.Re, in.Im = append(in.Re, -1e-3+sigma*rng.NormFloat64()), append(in.Im, sigma*rng.NormFloat64())
+		in.ModelRe, in.ModelIm = append(in.ModelRe, -1e-3), append(in.ModelIm, 0)
+		in.Weight = append(in.Weight, 1/(sigma*sigma))
+	}
+	return in
 }
 
 func sourceFixture(n int) SkyImage {

@@ -102,17 +102,68 @@ type imagePanel struct {
 	bar *colorBar
 }
 
-func (ip imagePanel) Draw(c draw.Canvas) {
-	c = inset(c, vg.Length(2))
+// panelMargin is the blank border an imagePanel leaves inside its cell.
+const panelMargin = vg.Length(2)
+
+// plotCanvas returns the canvas the plot takes inside cell c: c less the
+// margin and the colour bar, shrunk to equal aspect.
+func (ip imagePanel) plotCanvas(c draw.Canvas) draw.Canvas {
+	c = inset(c, panelMargin)
 	if ip.bar != nil {
 		c.Max.X -= ip.bar.width()
 	}
-	pc := fitAspect(ip.p, c)
+	return fitAspect(ip.p, c)
+}
+
+func (ip imagePanel) Draw(c draw.Canvas) {
+	pc := ip.plotCanvas(c)
+	thinXTicks(ip.p, pc)
 	ip.p.Draw(pc)
 	if ip.bar != nil {
 		dc := ip.p.DataCanvas(pc)
-		ip.bar.draw(c, dc.Max.X+vg.Length(4), dc.Min.Y, dc.Max.Y)
+		ip.bar.draw(inset(c, panelMargin), dc.Max.X+vg.Length(4), dc.Min.Y, dc.Max.Y)
 	}
+}
+
+// thinXTicks gives p's x axis fewer labelled ticks (about four, three,
+// then two) while the labels, at the width of p's data area in c, would
+// come closer than 3 pt to each other. The x axis height does not depend
+// on the number of labels, so the layout is unchanged.
+func thinXTicks(p *plot.Plot, c draw.Canvas) {
+	dc := p.DataCanvas(c)
+	w := dc.Max.X - dc.Min.X
+	for _, n := range []int{4, 3, 2} {
+		if !xLabelsCrowded(p, w) {
+			return
+		}
+		p.X.Tick.Marker = niceTicks{n: n}
+	}
+}
+
+// xLabelsCrowded reports whether the labelled x ticks of p, drawn across
+// a data area w wide, come closer than 3 pt to each other.
+func xLabelsCrowded(p *plot.Plot, w vg.Length) bool {
+	span := p.X.Max - p.X.Min
+	if !(span > 0) || w <= 0 {
+		return false
+	}
+	const gap = vg.Length(3)
+	sty := p.X.Tick.Label
+	prev := vg.Length(math.Inf(-1))
+	// Ticks come in increasing value; on an inverted axis they run right
+	// to left, with the same spacings.
+	for _, t := range p.X.Tick.Marker.Ticks(p.X.Min, p.X.Max) {
+		if t.Label == "" || t.Value < p.X.Min || t.Value > p.X.Max {
+			continue
+		}
+		x := vg.Length((t.Value-p.X.Min)/span) * w
+		hw := sty.Width(t.Label) / 2
+		if x-hw < prev+gap {
+			return true
+		}
+		prev = x + hw
+	}
+	return false
 }
 
 // colorBar is a vertical colour scale with ticks and a unit label on its
