@@ -36,12 +36,6 @@ func detectAVX() bool {
 //go:noescape
 func sieDeflectAVX(p *sieParams, ax, ay, x, y *float64, n int)
 
-// sieDeflect4AVX is sieDeflectAVX four points per iteration, n a multiple
-// of 4; its values are the same.
-//
-//go:noescape
-func sieDeflect4AVX(p *sieParams, ax, ay, x, y *float64, n int)
-
 // nfwDeflectAVX adds to ax[i], ay[i] the deflection of the NFW halo
 // described by p at (x[i], y[i]), eight points at a time, for 0 ≤ i < n, n
 // a multiple of 8, and stops before the first group of eight with a point
@@ -49,12 +43,6 @@ func sieDeflect4AVX(p *sieParams, ax, ay, x, y *float64, n int)
 //
 //go:noescape
 func nfwDeflectAVX(p *nfwParams, ax, ay, x, y *float64, n int) (done int)
-
-// nfwDeflect4AVX is nfwDeflectAVX four points per iteration, n a multiple
-// of 4; its values are the same.
-//
-//go:noescape
-func nfwDeflect4AVX(p *nfwParams, ax, ay, x, y *float64, n int) (done int)
 
 // sieFast adds the deflection of e at the first len(x)/8·8 points with the
 // assembly kernel and returns the number of points done.
@@ -67,24 +55,13 @@ func sieFast(e *sieEval, ax, ay, x, y []float64) int {
 	return n
 }
 
-// sieOne returns the deflection of e at (x, y) from the assembly kernel.
-func sieOne(e *sieEval, x, y float64) (ax, ay float64) {
-	xs, ys := [4]float64{x, x, x, x}, [4]float64{y, y, y, y}
-	var axs, ays [4]float64
-	sieDeflect4AVX(&e.kp, &axs[0], &ays[0], &xs[0], &ys[0], 4)
-	return axs[0], ays[0]
-}
+// sieOne returns the deflection of e at (x, y) as the assembly kernel
+// gives it (fast_mirror.go).
+func sieOne(e *sieEval, x, y float64) (ax, ay float64) { return sieOneGo(&e.kp, x, y) }
 
-// nfwOne returns the deflection of e at (x, y) from the assembly kernel, or
-// ok = false when (x, y) lies outside its domain R < r_s/2.
-func nfwOne(e *nfwEval, x, y float64) (ax, ay float64, ok bool) {
-	xs, ys := [4]float64{x, x, x, x}, [4]float64{y, y, y, y}
-	var axs, ays [4]float64
-	if nfwDeflect4AVX(&e.kp, &axs[0], &ays[0], &xs[0], &ys[0], 4) == 0 {
-		return 0, 0, false
-	}
-	return axs[0], ays[0], true
-}
+// nfwOne returns the deflection of e at (x, y) as the assembly kernel gives
+// it, or ok = false when (x, y) lies outside its domain R < r_s/2.
+func nfwOne(e *nfwEval, x, y float64) (ax, ay float64, ok bool) { return nfwOneGo(&e.kp, x, y) }
 
 // nfwFast adds the deflection of e at the first len(x)/8·8 points, with the
 // assembly kernel where all eight points of a group lie inside R < r_s/2

@@ -330,16 +330,6 @@ func sie() {
 	op("RET")
 	b.WriteString("\n")
 
-	// sieDeflect4AVX: the same, one group of four per iteration (for single
-	// points: half the instructions).
-	const name4 = "sieDeflect4AVX"
-	header(name4, "(p *sieParams, ax, ay, x, y *float64, n int)", rows, slots, 48,
-		[]string{"ax", "ay", "x", "y"}, []string{"R9", "R10", "SI", "DI"})
-	sieGroup(newGroup(0, rows, slots))
-	footerStep(name4, 4)
-	op("VZEROUPPER")
-	op("RET")
-	b.WriteString("\n")
 }
 
 func sieGroup(g group) {
@@ -442,18 +432,6 @@ func nfw() {
 	op("RET")
 	b.WriteString("\n")
 
-	// nfwDeflect4AVX: the same, one group of four per iteration.
-	const name4 = "nfwDeflect4AVX"
-	header(name4, "(p *nfwParams, ax, ay, x, y *float64, n int) (done int)", rows, slots, 56,
-		[]string{"ax", "ay", "x", "y"}, []string{"R9", "R10", "SI", "DI"})
-	nfwRadius(g0, "AX")
-	op("CMPL", "AX", "$15")
-	fmt.Fprintf(&b, "\tJNE %s_done\n", name4)
-	nfwGroup(g0)
-	footerStep(name4, 4)
-	op("MOVQ", "BX", "done+48(FP)")
-	op("VZEROUPPER")
-	op("RET")
 }
 
 // nfwRadius computes R = √(a1 x'² + a2 y'²) in r4 and x = R/r_s in r5 and
