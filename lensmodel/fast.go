@@ -6,9 +6,9 @@ package lensmodel
 // fast_amd64.s (written by gen_fast.go), eight points per loop iteration in
 // two interleaved groups of four; elsewhere the per-point formulas are used.
 // With the kernels, the per-point deflection methods of the SIE and NFW
-// call them too (a four-lane variant, the point in every lane), so that
-// batch and per-point values stay equal bit for bit; the last len%8 points
-// of a batch are evaluated so. The shear kernel repeats the per-point
+// use the kernels' one-point Go forms (fast_mirror.go), which give the same
+// values bit for bit, so that batch and per-point values stay equal; the
+// last len%8 points of a batch are evaluated so. The shear kernel repeats the per-point
 // arithmetic exactly. The SIE and NFW kernels follow the formulas of sie.go
 // and nfw.go with the elementary functions written out:
 //
