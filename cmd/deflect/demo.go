@@ -107,7 +107,7 @@ func runDemo(env *runEnv, dir string, force, quick bool) error {
 	if err != nil {
 		return err
 	}
-	evals, nNull := 150, 200
+	evals, nNull := 400, 200
 	if quick {
 		evals, nNull = 60, 50
 	}

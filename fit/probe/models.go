@@ -11,6 +11,7 @@ import (
 
 	"deflect/fit"
 	"deflect/lensmodel"
+	"deflect/source"
 	"deflect/uv"
 )
 
@@ -194,41 +195,55 @@ func CompareModels(a, b *ModelFit) *ModelTest {
 // Prediction is the central image a model predicts.
 type Prediction struct {
 	Model string `json:"model"`
-	// Present is false when the model makes no image within the radius;
-	// Note then says why (e.g. a singular core).
-	Present bool    `json:"present"`
-	Note    string  `json:"note,omitempty"`
-	X       float64 `json:"x_arcsec"`
-	Y       float64 `json:"y_arcsec"`
-	Mu      float64 `json:"magnification"`
-	// Flux is |μ| times the flux of the source's first component at the
-	// reference frequency (the component treated as a point at its
-	// centre), Jy; FluxErr its standard deviation over Samples posterior
-	// draws (0 when there are none), ErrFrom naming the posterior used.
+	// Present is false when the model makes no image of the source centre
+	// within the radius; Note then says why (e.g. a singular core).
+	Present bool   `json:"present"`
+	Note    string `json:"note,omitempty"`
+	// X, Y and Mu are the position (arcsec) and signed magnification of the
+	// image of the first source component's centre (lensmodel.FindImages).
+	X  float64 `json:"x_arcsec"`
+	Y  float64 `json:"y_arcsec"`
+	Mu float64 `json:"magnification"`
+	// Flux is the model's flux inside the radius at the reference
+	// frequency, Jy: the lensed rendering of the extended components summed
+	// over the pixels whose centres lie inside, plus the point images
+	// inside (exact for extended sources, which a point at the source
+	// centre with |μ| S is not: part of a source may lie outside the
+	// caustic that bounds the central image). FluxErr is its standard
+	// deviation over Samples posterior draws (0 when there are none),
+	// ErrFrom naming the posterior used.
 	Flux    float64 `json:"flux_jy"`
 	FluxErr float64 `json:"flux_err_jy"`
-	Samples int     `json:"samples"`
-	ErrFrom string  `json:"err_from,omitempty"`
+	// PointFlux is what the direct test would measure of the model's
+	// emission inside the radius: the point-source flux fitted at the
+	// measured position to the visibilities of that emission alone, with
+	// the data's (u, v) and weights. It equals Flux for an unresolved image
+	// and is smaller for a resolved one, and is what the measured flux is
+	// compared with; PointFluxErr its spread over the posterior draws.
+	PointFlux    float64 `json:"point_fit_flux_jy"`
+	PointFluxErr float64 `json:"point_fit_flux_err_jy"`
+	Samples      int     `json:"samples"`
+	ErrFrom      string  `json:"err_from,omitempty"`
 }
 
 // centralImage returns the image of the first source component's centre
 // nearest (x0, y0) within radius, for the model m at theta.
-func centralImage(m *fit.Model, theta []float64, x0, y0, radius float64) (lensmodel.Image, float64, bool, string, error) {
+func centralImage(m *fit.Model, theta []float64, x0, y0, radius float64) (lensmodel.Image, bool, string, error) {
 	lens, err := m.Lens(theta)
 	if err != nil {
-		return lensmodel.Image{}, 0, false, "", err
+		return lensmodel.Image{}, false, "", err
 	}
 	src, err := m.Source(theta, 0)
 	if err != nil {
-		return lensmodel.Image{}, 0, false, "", err
+		return lensmodel.Image{}, false, "", err
 	}
 	if len(src.Components) == 0 {
-		return lensmodel.Image{}, 0, false, "", errors.New("probe: the model has no parametric source")
+		return lensmodel.Image{}, false, "", errors.New("probe: the model has no parametric source")
 	}
 	bx, by := src.Components[0].Centre()
 	res, err := lensmodel.FindImages(lens, bx, by, lensmodel.ImageOptions{})
 	if err != nil {
-		return lensmodel.Image{}, 0, false, "", err
+		return lensmodel.Image{}, false, "", err
 	}
 	best, bd := -1, math.Inf(1)
 	for i, im := range res.Images {
@@ -237,91 +252,129 @@ func centralImage(m *fit.Model, theta []float64, x0, y0, radius float64) (lensmo
 		}
 	}
 	if best < 0 {
-		return lensmodel.Image{}, 0, false, res.CentralNote(), nil
+		return lensmodel.Image{}, false, res.CentralNote(), nil
 	}
-	return res.Images[best], src.Components[0].TotalFlux(), true, "", nil
+	return res.Images[best], true, "", nil
+}
+
+// discFlux returns the model's flux inside disc at the reference frequency
+// refFreq, Jy: rendered pixels of g inside plus point images inside.
+func discFlux(m *fit.Model, theta []float64, g uv.Grid, refFreq float64, disc Disc) (float64, error) {
+	lens, err := m.Lens(theta)
+	if err != nil {
+		return 0, err
+	}
+	src, err := m.Source(theta, refFreq)
+	if err != nil {
+		return 0, err
+	}
+	// Render only a box about the disc, at finer settings than a fit's.
+	n := uv.FFTSize(2*int(math.Ceil(disc.R/g.Pixel)) + 4)
+	fi, fj := g.Pix(disc.X, disc.Y)
+	xc, yc := g.XY(int(math.Round(fi)), int(math.Round(fj)))
+	box := uv.Grid{N: n, Pixel: g.Pixel, X0: xc, Y0: yc}
+	img, _ := source.Render(nil, box, lens, src, source.RenderOptions{Tol: 1e-3, MaxDepth: 4})
+	var f float64
+	for k, v := range img {
+		if x, y := box.Centre(k); disc.Contains(x, y) {
+			f += v
+		}
+	}
+	pts, err := source.LensedPoints(lens, src, source.PointOptions{})
+	if err != nil {
+		return 0, err
+	}
+	for _, p := range pts {
+		if disc.Contains(p.X, p.Y) {
+			f += p.Flux
+		}
+	}
+	return f, nil
 }
 
 // Predict returns the central image the fit mf predicts within radius of
-// (x0, y0), with the spread of its flux over nsamp draws (seeded by seed)
-// from the Laplace posterior N(θ̂, Σ).
-func Predict(mf *ModelFit, x0, y0, radius float64, nsamp int, seed uint64) (*Prediction, error) {
-	im, f, ok, note, err := centralImage(mf.Model, mf.Theta, x0, y0, radius)
+// (x0, y0) on the sky grid g (fluxes at refFreq Hz), with the spread of its
+// flux over at most nsamp posterior draws: mf.Samples when set, otherwise
+// draws (seeded by seed) from the Laplace posterior N(θ̂, Σ). pointFit,
+// when not nil, returns the direct-test flux of the model's emission inside
+// the radius for a parameter vector (see Prediction.PointFlux).
+func Predict(mf *ModelFit, g uv.Grid, refFreq, x0, y0, radius float64, nsamp int, seed uint64,
+	pointFit func(m *fit.Model, theta []float64) (float64, error)) (*Prediction, error) {
+	im, ok, note, err := centralImage(mf.Model, mf.Theta, x0, y0, radius)
 	if err != nil {
 		return nil, err
 	}
 	p := &Prediction{Model: mf.Name, Present: ok, Note: note}
-	if !ok {
-		return p, nil
+	disc := Disc{X: x0, Y: y0, R: radius}
+	if ok {
+		p.X, p.Y, p.Mu = im.X, im.Y, im.Mu
 	}
-	p.X, p.Y, p.Mu, p.Flux = im.X, im.Y, im.Mu, math.Abs(im.Mu)*f
-	if mf.Samples != nil {
-		var s, s2 float64
-		n := 0
-		for i, th := range mf.Samples {
-			if i >= nsamp {
-				break
+	if p.Flux, err = discFlux(mf.Model, mf.Theta, g, refFreq, disc); err != nil {
+		return nil, err
+	}
+	if pointFit != nil {
+		if p.PointFlux, err = pointFit(mf.Model, mf.Theta); err != nil {
+			return nil, err
+		}
+	}
+	draws := mf.Samples
+	p.ErrFrom = "posterior samples"
+	if draws == nil && mf.Cov != nil && nsamp >= 2 {
+		var chol mat.Cholesky
+		if chol.Factorize(mf.Cov) {
+			var lt mat.TriDense
+			chol.LTo(&lt)
+			k := len(mf.Theta)
+			rnd := rand.New(rand.NewPCG(seed, 11))
+			z := make([]float64, k)
+			for range nsamp {
+				for i := range z {
+					z[i] = rnd.NormFloat64()
+				}
+				th := make([]float64, k)
+				for i := range th {
+					th[i] = mf.Theta[i]
+					for j := 0; j <= i; j++ {
+						th[i] += lt.At(i, j) * z[j]
+					}
+				}
+				draws = append(draws, th)
 			}
-			im, f, ok, _, err := centralImage(mf.Model, th, x0, y0, radius)
-			if err != nil {
+			p.ErrFrom = "Laplace approximation of the posterior"
+		}
+	}
+	var fs, ps []float64
+	for i, th := range draws {
+		if i >= nsamp {
+			break
+		}
+		f, err := discFlux(mf.Model, th, g, refFreq, disc)
+		if err != nil {
+			continue // a draw outside the physical domain
+		}
+		pf := 0.0
+		if pointFit != nil {
+			if pf, err = pointFit(mf.Model, th); err != nil {
 				continue
 			}
-			flux := 0.0
-			if ok {
-				flux = math.Abs(im.Mu) * f
-			}
-			s, s2, n = s+flux, s2+flux*flux, n+1
 		}
-		if n > 1 {
-			mean := s / float64(n)
-			p.FluxErr = math.Sqrt(math.Max(0, (s2-float64(n)*mean*mean)/float64(n-1)))
-			p.Samples = n
-			p.ErrFrom = "posterior samples"
-		}
-		return p, nil
+		fs, ps = append(fs, f), append(ps, pf)
 	}
-	if mf.Cov == nil || nsamp < 2 {
-		return p, nil
-	}
-	var chol mat.Cholesky
-	if !chol.Factorize(mf.Cov) {
-		return p, nil
-	}
-	var lt mat.TriDense
-	chol.LTo(&lt)
-	k := len(mf.Theta)
-	rnd := rand.New(rand.NewPCG(seed, 11))
-	z := make([]float64, k)
-	th := make([]float64, k)
-	var s, s2 float64
-	n := 0
-	for range nsamp {
-		for i := range z {
-			z[i] = rnd.NormFloat64()
-		}
-		for i := range th {
-			th[i] = mf.Theta[i]
-			for j := 0; j <= i; j++ {
-				th[i] += lt.At(i, j) * z[j]
-			}
-		}
-		im, f, ok, _, err := centralImage(mf.Model, th, x0, y0, radius)
-		flux := 0.0
-		if err != nil {
-			continue
-		}
-		if ok {
-			flux = math.Abs(im.Mu) * f
-		}
-		s += flux
-		s2 += flux * flux
-		n++
-	}
-	if n > 1 {
-		mean := s / float64(n)
-		p.FluxErr = math.Sqrt(math.Max(0, (s2-float64(n)*mean*mean)/float64(n-1)))
-		p.Samples = n
-		p.ErrFrom = "Laplace approximation of the posterior"
+	if len(fs) > 1 {
+		p.FluxErr, p.PointFluxErr, p.Samples = sampleSD(fs), sampleSD(ps), len(fs)
+	} else {
+		p.ErrFrom = ""
 	}
 	return p, nil
+}
+
+func sampleSD(x []float64) float64 {
+	var s, s2 float64
+	for _, v := range x {
+		s += v
+		s2 += v * v
+	}
+	n := float64(len(x))
+	m := s / n
+	return math.Sqrt(math.Max(0, (s2-n*m*m)/(n-1)))
 }

@@ -266,8 +266,8 @@ func TestProbeRealCentralImage(t *testing.T) {
 	if len(res.Predictions) != 2 || res.Predictions[0].Present || !res.Predictions[1].Present {
 		t.Fatalf("predictions %+v", res.Predictions)
 	}
-	if p := res.Predictions[1]; math.Abs(p.Flux-res.Direct.Flux.Value) > 3*res.Direct.Flux.Err {
-		t.Errorf("predicted central flux %.3g Jy, measured %.3g ± %.2g", p.Flux, res.Direct.Flux.Value, res.Direct.Flux.Err)
+	if p := res.Predictions[1]; math.Abs(p.PointFlux-res.Direct.Flux.Value) > 3*res.Direct.Flux.Err || math.Abs(p.Flux/p.PointFlux-1) > 0.05 { // a point image: equal but for the offset of the measured position
+		t.Errorf("predicted central flux %.3g Jy (point fit %.3g; equal for a point source), measured %.3g ± %.2g", p.Flux, p.PointFlux, res.Direct.Flux.Value, res.Direct.Flux.Err)
 	}
 }
 
