@@ -153,16 +153,18 @@ func nfwOneGo(c *nfwParams, x, y float64) (ax, ay float64, ok bool) {
 	s := math.Sqrt(1 - x2)
 	p := s + 1
 	d := float64(p*4) - x2
-	z := x2 / d
+	sp := float64(s * p)
+	inv := 1 / float64(sp*d)
+	z := float64(x2 * sp)
+	z = float64(z * inv)
 	z2 := float64(z * z)
 	sum := 1.0 / 13
 	for j := 5; j >= 0; j-- {
 		sum = math.FMA(sum, z2, 1/float64(2*j+1))
 	}
 	num := math.FMA(-(sum + sum), p, float64(l*d))
-	den := float64(s * p)
-	den = float64(den * d)
-	kb := float64(num / den * c[8])
+	kb := float64(num * inv)
+	kb = float64(kb * c[8])
 	if !(r != 0) {
 		kb = 0
 	}

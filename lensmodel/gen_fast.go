@@ -468,19 +468,23 @@ func nfwGroup(g group) {
 	add(r[6], r[0], k("one")) // p
 	mul(r[2], r[6], k("four"))
 	sub(r[2], r[2], r[1]) // d
-	div(r[1], r[1], r[2])
+	// One division: inv = 1/(s p d), z = x² s p inv = x²/d.
+	mul(r[3], r[0], r[6])
+	mul(r[4], r[3], r[2])
+	op("VMOVUPD", k("one"), r[5])
+	div(r[5], r[5], r[4])
+	mul(r[1], r[1], r[3])
+	mul(r[1], r[1], r[5])
 	mul(r[1], r[1], r[1])
 	op("VMOVUPD", k("inv13"), r[3])
 	for j := 5; j >= 0; j-- {
 		fma213(r[3], r[1], k(fmt.Sprintf("inv%d", 2*j+1)))
 	}
-	// num = L d − 2 S p, den = s p d, 4κ_s h/x² = 4κ_s num/den.
+	// num = L d − 2 S p, 4κ_s h/x² = 4κ_s num inv.
 	mul(r[7], r[7], r[2])
 	add(r[3], r[3], r[3])
 	fnma231(r[7], r[3], r[6])
-	mul(r[0], r[0], r[6])
-	mul(r[0], r[0], r[2])
-	div(r[7], r[7], r[0])
+	mul(r[7], r[7], r[5])
 	mul(r[7], r[7], p(8))
 	and(r[7], r[7], g.slot(2))
 	op("VMOVUPD", g.slot(0), r[2])
