@@ -23,6 +23,7 @@
 //
 //	UVCoverageFigure      (u, v) and (−u, −v) per dataset, kλ, +u (east) to the left
 //	VisibilityFigure      binned Re and Im against uv distance, model, residuals
+//	SkyFigure             one or more sky images, each with beam, overlays and colour bar
 //	DirtyFigure           data, model (shared scale) and residual in σ with ±nσ contours
 //	SourceFigure          source-plane image with caustics, optional 1σ map
 //	MagnificationFigure   log10 |μ| with critical curves

@@ -91,3 +91,29 @@ func TestFormat(t *testing.T) {
 		}
 	}
 }
+
+func TestTitled(t *testing.T) {
+	f, err := figureCases[0].build(16)
+	if err != nil {
+		t.Fatal(err)
+	}
+	tf := Titled(f, "a title")
+	if tf.Width != f.Width || math.Abs(float64(tf.Height-f.Height-0.22*vg.Inch)) > 1e-9 {
+		t.Errorf("titled %v × %v from %v × %v, want 0.22 in taller", tf.Width, tf.Height, f.Width, f.Height)
+	}
+	img, _ := renderPNG(t, tf)
+	// The title band (top 0.22 in) holds dark text pixels.
+	band := pixelsFor(0.22 * vg.Inch)
+	dark := 0
+	b := img.Bounds()
+	for y := b.Min.Y; y < b.Min.Y+band; y++ {
+		for x := b.Min.X; x < b.Max.X; x++ {
+			if r, g, bb, _ := img.At(x, y).RGBA(); r>>8 < 100 && g>>8 < 100 && bb>>8 < 100 {
+				dark++
+			}
+		}
+	}
+	if dark < 50 {
+		t.Errorf("%d dark pixels in the title band, want text", dark)
+	}
+}

@@ -10,10 +10,6 @@ import (
 	"strings"
 	"testing"
 
-	"gonum.org/v1/plot"
-	"gonum.org/v1/plot/vg/draw"
-	"gonum.org/v1/plot/vg/vgimg"
-
 	"deflect/plots"
 	"deflect/uv"
 )
@@ -212,58 +208,92 @@ func TestImageStreamsLikeInMemory(t *testing.T) {
 	}
 }
 
-// The figure's panels put east on the left and north at the top: the
-// raster's top-left pixel is the grid's north-east corner (pixel (0, N−1)
-// in FITS order, x = +N/2·pixel), the x axis is inverted, and the axis
-// transforms put larger x (east) left of smaller x.
+// The figure's image panel puts east on the left and north at the top: a
+// bright pixel at the grid's north-east corner (pixel (0, N−1) in FITS
+// order, x = +N/2·pixel) lands left of and above one at the south-west
+// corner (pixel (N−1, 0)) in the rendered PNG. The top colour also fills
+// the top of the colour bar, the same in both renderings, so the centroids
+// differ only by the pixel. (The beam ellipse's position angle is pinned
+// in package plots, TestBeamPolygonPA and TestBeamRendered.)
 func TestImageFigureOrientation(t *testing.T) {
 	const n = 16
-	vals := make([]float64, n*n)
-	vals[(n-1)*n+0] = 1 // i = 0 (east edge), j = N−1 (north edge)
-	s := skyPanel{title: "t", im: plots.SkyImage{N: n, Pixel: 0.1, Values: vals}, scale: 1, unit: "u"}
-	if err := s.prepare(); err != nil {
-		t.Fatal(err)
+	beam := make([]float64, n*n)
+	beam[n/2*n+n/2] = 1
+	locate := func(i, j int) (x, y float64) {
+		vals := make([]float64, n*n)
+		vals[j*n+i] = 1e-3
+		di := &uv.DirtyImage{Grid: uv.Grid{N: n, Pixel: 0.1}, Image: vals, Beam: beam,
+			Clean: uv.CleanBeam{BMaj: 0.3, BMin: 0.2, BPA: 30}}
+		if x, y := di.Grid.XY(i, j); (i == 0) != (x > 0 && y > 0) {
+			t.Fatalf("pixel (%d, %d) at (%g, %g)", i, j, x, y)
+		}
+		fig, err := imageFigure(di, "t")
+		if err != nil {
+			t.Fatal(err)
+		}
+		var buf bytes.Buffer
+		if err := plots.Render(&buf, fig, 0, 0, "png"); err != nil {
+			t.Fatal(err)
+		}
+		img, err := png.Decode(&buf)
+		if err != nil {
+			t.Fatal(err)
+		}
+		top := plots.Viridis.At(1)
+		var sx, sy, cnt float64
+		b := img.Bounds()
+		for y := b.Min.Y; y < b.Max.Y; y++ {
+			for x := b.Min.X; x < b.Min.X+b.Dx()/2; x++ { // the image panel
+				r, g, bb, _ := img.At(x, y).RGBA()
+				if uint8(r>>8) == top.R && uint8(g>>8) == top.G && uint8(bb>>8) == top.B {
+					sx, sy, cnt = sx+float64(x), sy+float64(y), cnt+1
+				}
+			}
+		}
+		if cnt == 0 {
+			t.Fatalf("peak colour not found for pixel (%d, %d)", i, j)
+		}
+		return sx / cnt, sy / cnt
 	}
-	if x, y := s.im.XY(0, n-1); !(x > 0 && y > 0) {
-		t.Fatalf("pixel (0, N−1) at (%g, %g), want north-east", x, y)
+	nex, ney := locate(0, n-1)
+	swx, swy := locate(n-1, 0)
+	if !(nex < swx) || !(ney < swy) {
+		t.Errorf("north-east pixel centroid (%.1f, %.1f), south-west (%.1f, %.1f) px: want east left, north up", nex, ney, swx, swy)
 	}
-	img := s.raster()
-	top := plots.Viridis.At(1)
-	if c := img.At(0, 0); c != top {
-		t.Errorf("top-left raster pixel %v, want the peak colour %v", c, top)
-	}
-	b := img.Bounds()
-	if c := img.At(b.Max.X-1, b.Max.Y-1); c == top {
-		t.Error("bottom-right raster pixel has the peak colour")
-	}
-	p := s.newPlot()
-	if _, ok := p.X.Scale.(plot.InvertedScale); !ok {
-		t.Errorf("x scale %T, want inverted (east left)", p.X.Scale)
-	}
-	c := draw.New(vgimg.New(300, 300))
-	trX, trY := p.Transforms(&c)
-	if !(trX(0.5) < trX(-0.5)) || !(trY(0.5) > trY(-0.5)) {
-		t.Error("east is not left of west, or north not above south")
-	}
-	// Beam ellipses: PA is east of north, so PA 0 is tall, PA 90 wide and
-	// PA 45 has its major axis toward the north-east (x > 0, y > 0).
+}
+
+// The beam panel zooms to ±10 clean-beam major axes, clamped to 8…N/4
+// pixels, and shows the whole grid when that covers it.
+func TestBeamZoom(t *testing.T) {
 	for _, tc := range []struct {
-		pa, dx, dy float64 // half extents
-		endX, endY float64 // major-axis end
+		name  string
+		g     uv.Grid
+		major float64
+		half  int // pixels either side; −1 for no zoom
 	}{
-		{0, 0.05, 0.2, 0, 0.2},
-		{90, 0.2, 0.05, 0.2, 0},
-		{45, 0.2 * math.Sqrt(0.5) * math.Sqrt(1+1.0/16), 0.2 * math.Sqrt(0.5) * math.Sqrt(1+1.0/16), 0.2 * math.Sqrt(0.5), 0.2 * math.Sqrt(0.5)},
+		{"ten majors", uv.Grid{N: 256, Pixel: 0.1}, 0.3, 30},
+		{"capped at N/4", uv.Grid{N: 64, Pixel: 0.1}, 0.3, 16},
+		{"at least 8", uv.Grid{N: 64, Pixel: 0.1}, 0.02, 8},
+		{"no clean beam", uv.Grid{N: 64, Pixel: 0.1}, 0, 16},
+		{"small grid whole", uv.Grid{N: 16, Pixel: 0.1}, 0.3, -1},
 	} {
-		pts := ellipse{b: plots.Beam{Major: 0.4, Minor: 0.1, PA: tc.pa}}.points(3600)
-		var mx, my float64
-		for _, q := range pts {
-			mx, my = math.Max(mx, math.Abs(q[0])), math.Max(my, math.Abs(q[1]))
-		}
-		if math.Abs(mx-tc.dx) > 1e-6 || math.Abs(my-tc.dy) > 1e-6 ||
-			math.Abs(pts[0][0]-tc.endX) > 1e-12 || math.Abs(pts[0][1]-tc.endY) > 1e-12 {
-			t.Errorf("PA %g: half extents %g, %g (want %g, %g); major end %v (want %g, %g)",
-				tc.pa, mx, my, tc.dx, tc.dy, pts[0], tc.endX, tc.endY)
-		}
+		t.Run(tc.name, func(t *testing.T) {
+			box := beamZoom(tc.g, plots.Beam{Major: tc.major, Minor: tc.major})
+			if tc.half < 0 {
+				if box != nil {
+					t.Errorf("zoom %+v, want none", *box)
+				}
+				return
+			}
+			if box == nil {
+				t.Fatal("no zoom")
+			}
+			// Pixel centres at k·Pixel, |k| ≤ half, lie inside; half + 1 does not.
+			in := float64(tc.half) * tc.g.Pixel
+			out := float64(tc.half+1) * tc.g.Pixel
+			if !(box.XMax > in && box.XMax < out && box.XMin < -in && box.XMin > -out && box.YMax == box.XMax && box.YMin == box.XMin) {
+				t.Errorf("zoom %+v, want centres within ±%d pixels", *box, tc.half)
+			}
+		})
 	}
 }

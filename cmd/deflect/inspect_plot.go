@@ -5,12 +5,6 @@ import (
 	"io"
 	"path/filepath"
 
-	"gonum.org/v1/plot"
-	"gonum.org/v1/plot/font"
-	"gonum.org/v1/plot/text"
-	"gonum.org/v1/plot/vg"
-	"gonum.org/v1/plot/vg/draw"
-
 	"deflect/internal/atomicfile"
 	"deflect/plots"
 	"deflect/uv"
@@ -87,7 +81,7 @@ func (ip *inspectPlots) add(w io.Writer, d *uv.Dataset, path string) error {
 		if v.ampPhase {
 			what = "amplitude and phase"
 		}
-		titled := withTitle(fig, fmt.Sprintf("%s: %s of the binned visibilities (%d rows)", set.Label, what, used))
+		titled := plots.Titled(fig, fmt.Sprintf("%s: %s of the binned visibilities (%d rows)", set.Label, what, used))
 		name := filepath.Join(ip.dir, label+".vis-"+v.suffix+"."+ip.format)
 		if err := plots.Save(titled, 0, 0, name, ip.format, ip.force); err != nil {
 			return err
@@ -115,27 +109,4 @@ func (ip *inspectPlots) finish(w io.Writer) error {
 		fmt.Fprintf(w, "wrote %s\n", f)
 	}
 	return nil
-}
-
-// titleBand is the height added above a figure for its title.
-const titleBand = 0.22 * vg.Inch
-
-// withTitle returns fig with a one-line title centred above it, in the
-// figures' 8 pt type; the figure keeps its natural size below the title.
-func withTitle(fig *plots.Figure, title string) *plots.Figure {
-	w, h := fig.Size()
-	out := &plots.Figure{Width: w, Height: h + titleBand}
-	f := float64(h / out.Height)
-	out.Add(0, 0, 1, f, fig)
-	out.Add(0, f, 1, 1, titleText(title))
-	return out
-}
-
-// titleText draws its text centred in the canvas.
-type titleText string
-
-func (t titleText) Draw(c draw.Canvas) {
-	sty := text.Style{Color: figBlack, Font: font.From(plot.DefaultFont, figLabelSize), Handler: plot.DefaultTextHandler,
-		XAlign: draw.XCenter, YAlign: draw.YCenter}
-	c.FillText(sty, vg.Point{X: (c.Min.X + c.Max.X) / 2, Y: (c.Min.Y + c.Max.Y) / 2}, string(t))
 }
