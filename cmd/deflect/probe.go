@@ -234,7 +234,7 @@ func writeProbe(dir string, res *probe.Result) error {
 				continue
 			}
 			pr.Splits = append(pr.Splits, plots.Flux{Value: s.Flux.Value * 1e3, Err: s.Flux.Err * 1e3})
-			pr.SplitLabels = append(pr.SplitLabels, s.Name)
+			pr.SplitLabels = append(pr.SplitLabels, shortSplit(s.Name))
 		}
 	}
 	for _, p := range res.Null.Peaks {
@@ -245,4 +245,22 @@ func writeProbe(dir string, res *probe.Result) error {
 		return fmt.Errorf("probe figure: %w", err)
 	}
 	return plots.Save(fig, 0, 0, filepath.Join(dir, "probe.png"), "png", true)
+}
+
+// shortSplit abbreviates a split's name for the figure's axis.
+func shortSplit(name string) string {
+	switch name {
+	case "first half":
+		return "1st half"
+	case "second half":
+		return "2nd half"
+	case "short baselines":
+		return "short"
+	case "long baselines":
+		return "long"
+	}
+	if len(name) > 8 {
+		return name[len(name)-8:]
+	}
+	return name
 }

@@ -37,6 +37,9 @@ type Null struct {
 	FalseAlarm    float64 `json:"false_alarm_probability"`
 	FalseAlarmErr float64 `json:"false_alarm_probability_err"`
 	UpperLimit95  float64 `json:"upper_limit_95,omitempty"`
+	// Permutation is the permutation-test p-value (1 + Exceed)/(1 + N)
+	// (North, Curtis & Sham 2002, eq. 1), the value the probe figure shows.
+	Permutation float64 `json:"permutation_p_value"`
 	// NullMean and NullSD summarise Peaks.
 	NullMean float64 `json:"null_mean_jy_per_beam"`
 	NullSD   float64 `json:"null_sd_jy_per_beam"`
@@ -129,5 +132,6 @@ func NullTest(r *Rows, im *Imager, n int, seed uint64) (*Null, error) {
 		out.UpperLimit95 = 3 / nf
 	}
 	out.ImageFalseAlarm = float64(out.ImageExceed) / nf
+	out.Permutation = float64(1+out.Exceed) / (1 + nf)
 	return out, nil
 }

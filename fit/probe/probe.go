@@ -72,7 +72,8 @@ type Result struct {
 	Summary string   `json:"summary"`
 	Reasons []string `json:"reasons"`
 
-	// Image is the data's dirty image on the cut-out, Cut its grid.
+	// Image is the residual dirty image (data minus the base model) on the
+	// cut-out, Jy/beam, and Cut its grid.
 	Image []float64 `json:"-"`
 	Cut   uv.Grid   `json:"-"`
 }
@@ -136,7 +137,11 @@ func Run(m *fit.Model, theta []float64, data []*uv.Dataset, opt Options) (*Resul
 		return nil, err
 	}
 	res.ImageNoise = im.Noise
-	res.Image, res.Cut = im.Image(nil, rows.Data), im.Cut
+	resid := make([]complex128, rows.Len())
+	for k := range resid {
+		resid[k] = rows.Data[k] - rows.Base[k]
+	}
+	res.Image, res.Cut = im.Image(nil, resid), im.Cut
 	if res.Null, err = NullTest(rows, im, nNull, opt.Seed); err != nil {
 		return nil, err
 	}
