@@ -2,7 +2,7 @@ package lensmodel
 
 // Batch deflection kernels. On amd64 CPUs with AVX2 and FMA the isothermal
 // ellipsoid (q < 1, e = √(1 − q²) ≥ sieLogE), the NFW halo inside
-// R < r_s/2 and the external shear are evaluated by the assembly of
+// R < 0.8 r_s and the external shear are evaluated by the assembly of
 // fast_amd64.s (written by gen_fast.go), eight points per loop iteration in
 // two interleaved groups of four; elsewhere the per-point formulas are used.
 // With the kernels, the per-point deflection methods of the SIE and NFW
@@ -18,9 +18,9 @@ package lensmodel
 //     the NFW's > 4) split as 2^k m, m in [1/√2, √2], and
 //     ln m = 2 atanh(s), s = (m − 1)/(m + 1), with the polynomial of Go's
 //     math.Log (FreeBSD e_log.c);
-//   - NFW, x = R/r_s < ½: 4h(x)/x² = (4/s) [ln(2/x)/p − 2S/d] with
+//   - NFW, x = R/r_s < 0.8: 4h(x)/x² = (4/s) [ln(2/x)/p − 2S/d] with
 //     s = √(1 − x²), p = 1 + s, d = 4p − x², S = Σ_j z^{2j}/(2j + 1),
-//     z = x²/d ≤ 0.035 (seven terms), from ln1p(w) = 2 atanh(w/(2 + w)),
+//     z = x²/d ≤ 0.111 (nine terms), from ln1p(w) = 2 atanh(w/(2 + w)),
 //     w = −x²/(2p), in the small-x form of nfwH.
 //
 // fast_test.go bounds the difference between the kernels and the portable

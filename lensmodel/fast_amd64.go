@@ -39,7 +39,7 @@ func sieDeflectAVX(p *sieParams, ax, ay, x, y *float64, n int)
 // nfwDeflectAVX adds to ax[i], ay[i] the deflection of the NFW halo
 // described by p at (x[i], y[i]), eight points at a time, for 0 ≤ i < n, n
 // a multiple of 8, and stops before the first group of eight with a point
-// at R ≥ r_s/2 (or not a number). It returns the number of points done.
+// at R ≥ 0.8 r_s (or not a number). It returns the number of points done.
 //
 //go:noescape
 func nfwDeflectAVX(p *nfwParams, ax, ay, x, y *float64, n int) (done int)
@@ -60,11 +60,11 @@ func sieFast(e *sieEval, ax, ay, x, y []float64) int {
 func sieOne(e *sieEval, x, y float64) (ax, ay float64) { return sieOneGo(&e.kp, x, y) }
 
 // nfwOne returns the deflection of e at (x, y) as the assembly kernel gives
-// it, or ok = false when (x, y) lies outside its domain R < r_s/2.
+// it, or ok = false when (x, y) lies outside its domain R < 0.8 r_s.
 func nfwOne(e *nfwEval, x, y float64) (ax, ay float64, ok bool) { return nfwOneGo(&e.kp, x, y) }
 
 // nfwFast adds the deflection of e at the first len(x)/8·8 points, with the
-// assembly kernel where all eight points of a group lie inside R < r_s/2
+// assembly kernel where all eight points of a group lie inside R < 0.8 r_s
 // and with the per-point method elsewhere, and returns the number of points
 // done.
 func nfwFast(e *nfwEval, ax, ay, x, y []float64) int {

@@ -11,6 +11,7 @@ import "math"
 
 // Constants of gen_fast.go.
 const (
+	nfwFastMax = 0.8 // the NFW kernel's domain x = R/r_s < nfwFastMax
 	kTan3pio8  = 2.41421356237309504880
 	kMorebits  = 6.123233995736765886130e-17
 	kTiny      = 0x1p-1022
@@ -136,7 +137,7 @@ func sieOneGo(c *sieParams, x, y float64) (ax, ay float64) {
 }
 
 // nfwOneGo is nfwRadius and nfwGroup of gen_fast.go for one point; ok is
-// false outside the kernel's domain R < r_s/2.
+// false outside the kernel's domain R < 0.8 r_s.
 func nfwOneGo(c *nfwParams, x, y float64) (ax, ay float64, ok bool) {
 	sn, cs, a1, a2 := c[2], c[3], c[4], c[5]
 	xp, yp := rotateLocal(x, y, c[0], c[1], sn, cs)
@@ -145,7 +146,7 @@ func nfwOneGo(c *nfwParams, x, y float64) (ax, ay float64, ok bool) {
 	r2 = math.FMA(float64(yp*yp), a2, r2)
 	r := math.Sqrt(r2)
 	xx := float64(r * c[6])
-	if !(xx < 0.5) {
+	if !(xx < nfwFastMax) {
 		return 0, 0, false
 	}
 	l := logRatioOne(c[7], r)
@@ -158,8 +159,8 @@ func nfwOneGo(c *nfwParams, x, y float64) (ax, ay float64, ok bool) {
 	z := float64(x2 * sp)
 	z = float64(z * inv)
 	z2 := float64(z * z)
-	sum := 1.0 / 13
-	for j := 5; j >= 0; j-- {
+	sum := 1.0 / 17
+	for j := 7; j >= 0; j-- {
 		sum = math.FMA(sum, z2, 1/float64(2*j+1))
 	}
 	num := math.FMA(-(sum + sum), p, float64(l*d))

@@ -2,7 +2,7 @@
 
 // gen_fast writes fast_amd64.s: the batch deflection kernels of the
 // isothermal ellipsoid (SIE, singular or cored, q < 1), of the NFW halo
-// with an elliptical potential (inside R < r_s/2) and of the external
+// with an elliptical potential (inside R < 0.8 r_s) and of the external
 // shear, eight points per loop iteration, four per 256-bit register, with
 // AVX2 and FMA. Run with `go run gen_fast.go` in this directory (go
 // generate does). The algorithms are described in fast.go; fast_test.go
@@ -106,6 +106,9 @@ func cmp(dst, a, bb string, pred int) { op("VCMPPD", fmt.Sprintf("$%#x", pred), 
 // blend: dst = mask ? bb : a.
 func blend(dst, a, bb, mask string) { op("VBLENDVPD", mask, bb, a, dst) }
 
+// nfwFastMax is the NFW kernel's domain x = R/r_s < nfwFastMax (fast.go).
+const nfwFastMax = 0.8
+
 const (
 	predLT  = 0x11 // LT_OQ
 	predGT  = 0x1e // GT_OQ
@@ -179,7 +182,8 @@ func main() {
 	}
 	defFloat("ln2hi", 6.93147180369123816490e-01)
 	defFloat("ln2lo", 1.90821492927058770002e-10)
-	for j := 0; j <= 6; j++ {
+	defFloat("nfwmax", nfwFastMax)
+	for j := 0; j <= 8; j++ {
 		defFloat(fmt.Sprintf("inv%d", 2*j+1), 1/float64(2*j+1))
 	}
 
@@ -414,7 +418,7 @@ func sieGroup(g group) {
 // nfw writes nfwDeflectAVX, eight points per iteration: rows of
 // nfwParams: 0 x0, 1 y0, 2 sin PA, 3 cos PA, 4 a1 = 1 − ε, 5 a2 = 1 + ε,
 // 6 1/r_s, 7 2 r_s, 8 4κ_s; slots 0 x', 1 y', 2 the mask R ≠ 0. It stops
-// at the first group of eight points with one at R ≥ r_s/2 (or not a
+// at the first group of eight points with one at R ≥ 0.8 r_s (or not a
 // number) and returns its index.
 func nfw() {
 	const name, rows, slots = "nfwDeflectAVX", 9, 3
@@ -447,12 +451,12 @@ func nfwRadius(g group, mask string) {
 	fma231(r[4], r[0], p(5))
 	op("VSQRTPD", r[4], r[4])
 	mul(r[5], r[4], p(6))
-	cmp(r[6], r[5], k("half"), predLT)
+	cmp(r[6], r[5], k("nfwmax"), predLT)
 	op("VMOVMSKPD", r[6], mask)
 }
 
 // nfwGroup: 4h(x)/x² = (4/s) [ln(2/x)/p − 2 S/d], s = √(1 − x²), p = 1 + s,
-// d = 4p − x², S = Σ_j z^{2j}/(2j + 1), z = x²/d ≤ 0.035 (fast.go).
+// d = 4p − x², S = Σ_j z^{2j}/(2j + 1), z = x²/d ≤ 0.111 (fast.go).
 func nfwGroup(g group) {
 	r := g.r
 	op("VXORPD", r[0], r[0], r[0])
@@ -476,8 +480,8 @@ func nfwGroup(g group) {
 	mul(r[1], r[1], r[3])
 	mul(r[1], r[1], r[5])
 	mul(r[1], r[1], r[1])
-	op("VMOVUPD", k("inv13"), r[3])
-	for j := 5; j >= 0; j-- {
+	op("VMOVUPD", k("inv17"), r[3])
+	for j := 7; j >= 0; j-- {
 		fma213(r[3], r[1], k(fmt.Sprintf("inv%d", 2*j+1)))
 	}
 	// num = L d − 2 S p, 4κ_s h/x² = 4κ_s num inv.

@@ -29,7 +29,7 @@ import "math"
 //
 // At the centre the deflection is zero and κ and the Hessian diagonal are
 // +Inf (the cusp). On amd64 processors with AVX2 and FMA the deflection
-// inside R < r_s/2 comes from the vector kernel of fast.go, within
+// inside R < 0.8 r_s comes from the vector kernel of fast.go, within
 // 4e-15 |α| + 1e-15 κ_s r_s of the portable evaluation (tested).
 //
 // References:
