@@ -125,9 +125,9 @@ func TestFastNFW(t *testing.T) {
 }
 
 // TestFastPointwise checks that, with the kernels, the per-point deflection
-// equals the batch value bit for bit, including NFW groups of four that
-// straddle the kernel's domain R < r_s/2, and slice lengths not a multiple
-// of four.
+// equals the batch value bit for bit, including NFW groups of eight that
+// straddle the kernel's domain R < 0.8 r_s, and slice lengths not a
+// multiple of eight.
 func TestFastPointwise(t *testing.T) {
 	rnd := rand.New(rand.NewPCG(3, 3))
 	l := Lens{
@@ -137,8 +137,8 @@ func TestFastPointwise(t *testing.T) {
 	n := 4003
 	x, y := make([]float64, n), make([]float64, n)
 	for i := range x {
-		// Radii about the halo's r_s/2 = 0.5 so that groups straddle it.
-		r, phi := 0.3+0.4*rnd.Float64(), 2*math.Pi*rnd.Float64()
+		// Radii about the halo's 0.8 r_s = 0.8 so that groups straddle it.
+		r, phi := 0.6+0.4*rnd.Float64(), 2*math.Pi*rnd.Float64()
 		x[i], y[i] = 0.1+r*math.Cos(phi), r*math.Sin(phi)
 	}
 	ax, ay := make([]float64, n), make([]float64, n)
