@@ -22,14 +22,17 @@ func requireLongTests(t *testing.T) {
 func TestAcceptanceRecovery(t *testing.T) {
 	requireLongTests(t)
 	dir := t.TempDir()
-	m, truth := writeSimModel(t, dir, 0.05, 64, "starts = 4", smallSim)
+	sp := smallSim
+	sp.sigma = 8e-3 // peak S/N ≈ 15 per beam
+	m, truth := writeSimModel(t, dir, 0.05, 64, "starts = 2", sp)
 	for _, q := range m.Free {
 		q.Value = (q.Min + q.Max) / 2
 	}
-	r, err := Run(context.Background(), m, RunOptions{Method: "optimize", DerivedSamples: -1, NoMaps: true})
+	r, err := Run(context.Background(), m, RunOptions{Method: "optimize", MaxEvaluations: 6000, DerivedSamples: -1, NoMaps: true})
 	if err != nil {
 		t.Fatal(err)
 	}
+	t.Logf("ln L at the truth %.3f, at the fit %.3f", r.Like.LogLike(truth), r.BestLogLike)
 	for i, q := range m.Free {
 		p, _ := r.Param(q.Name)
 		sd := (p.Hi - p.Lo) / 2
@@ -39,7 +42,7 @@ func TestAcceptanceRecovery(t *testing.T) {
 			t.Errorf("%s: %g ± %g is %.1fσ from the truth %g", q.Name, p.Best, sd, pull, truth[i])
 		}
 	}
-	t.Logf("χ²/(n − k) = %.4f", r.ReducedChi2)
+	t.Logf("χ²/(n − k) = %.4f, %d evaluations, status %s", r.ReducedChi2, r.Evaluations, r.Status)
 }
 
 // coverageModel has three free parameters: the Einstein radius, the flux
@@ -69,18 +72,19 @@ fwhm = {start = 0.3, min = 0.1, max = 0.6}
 [fit]
 method = "nested"
 seed = %d
-live_points = 40
+live_points = 32
 dlogz = 0.1
 `
 
-// TestAcceptanceCoverage fits 24 small simulated datasets (coverage and
+// TestAcceptanceCoverage fits 20 small simulated datasets (coverage and
 // noise drawn afresh) by nested sampling and counts how often the 68%
 // posterior intervals contain the truth: for calibrated posteriors the
-// fraction is 0.68 with a binomial standard deviation of 0.055 over the 72
-// intervals, so 0.55–0.80 is required.
+// fraction is 0.68 with a binomial standard deviation of 0.06 over the 60
+// intervals (ignoring their correlation within a fit), so 0.55–0.80 is
+// required.
 func TestAcceptanceCoverage(t *testing.T) {
 	requireLongTests(t)
-	const fits = 24
+	const fits = 20
 	inside, total := 0, 0
 	for f := range fits {
 		dir := t.TempDir()
@@ -88,7 +92,7 @@ func TestAcceptanceCoverage(t *testing.T) {
 		sp.seed = uint64(100 + f)
 		sp.sigma = 4e-3
 		m, truth := writeSimDoc(t, dir, fmt.Sprintf(coverageModel, f+1), gridOf(32, 0.08), sp)
-		r, err := Run(context.Background(), m, RunOptions{DerivedSamples: -1, NoMaps: true, NestedSteps: 9})
+		r, err := Run(context.Background(), m, RunOptions{DerivedSamples: -1, NoMaps: true, NestedSteps: 6})
 		if err != nil {
 			t.Fatal(err)
 		}

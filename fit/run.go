@@ -38,8 +38,9 @@ type RunOptions struct {
 	// CheckpointInterval is the time between checkpoints (zero: one
 	// minute; negative: only on interruption and at the end).
 	CheckpointInterval time.Duration
-	// MaxEvaluations caps the likelihood calls of a nested run (zero: no
-	// cap).
+	// MaxEvaluations caps the likelihood calls of a nested run, or of each
+	// phase of each start of an optimisation (zero: no cap, or the
+	// optimiser's default 2000 (Dim + 1)).
 	MaxEvaluations int
 	// NestedSteps is the number of slice moves per nested replacement
 	// (zero: the sampler's default, 5 per parameter).
@@ -108,7 +109,7 @@ func Run(ctx context.Context, m *Model, opt RunOptions) (*Result, error) {
 	var post posterior
 	switch method {
 	case "optimize":
-		r, err := Optimize(ctx, p, OptimizeSettings{Starts: m.Fit.Starts, Start: m.Start(), Progress: opt.Progress}, rand.New(rand.NewPCG(seed, 0)))
+		r, err := Optimize(ctx, p, OptimizeSettings{Starts: m.Fit.Starts, Start: m.Start(), MaxEvaluations: opt.MaxEvaluations, Progress: opt.Progress}, rand.New(rand.NewPCG(seed, 0)))
 		if err != nil {
 			return nil, err
 		}

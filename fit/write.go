@@ -33,7 +33,7 @@ type RunRecord struct {
 	Data       map[string]string `json:"data_sha256"`
 	Method     string            `json:"method"`
 	Seed       uint64            `json:"seed"`
-	Started    string            `json:"finished_utc"`
+	Finished   string            `json:"finished_utc"`
 	Timing     Timing            `json:"timing_s"`
 	Host       string            `json:"host"`
 	GoVersion  string            `json:"go_version"`
@@ -58,7 +58,7 @@ func fileHash(path string) string {
 func runRecord(m *Model, l *Likelihood, r *Result, opt RunOptions, seed uint64) *RunRecord {
 	host, _ := os.Hostname()
 	rec := &RunRecord{Version: opt.Version, Model: m.Path, ModelHash: fileHash(m.Path), Data: map[string]string{},
-		Method: r.Method, Seed: seed, Started: time.Now().UTC().Format(time.RFC3339), Host: host,
+		Method: r.Method, Seed: seed, Finished: time.Now().UTC().Format(time.RFC3339), Host: host,
 		GoVersion: runtime.Version(), OS: runtime.GOOS + "/" + runtime.GOARCH, CPUs: runtime.NumCPU(),
 		GOMAXPROCS: runtime.GOMAXPROCS(0)}
 	for _, d := range m.Data {
