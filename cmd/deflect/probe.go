@@ -23,7 +23,7 @@ type probeOptions struct {
 	radius, robust             float64
 	null, evals                int
 	seed                       uint64
-	force                      bool
+	force, noModelTest         bool
 }
 
 func init() {
@@ -51,7 +51,10 @@ radius is removed first, so the tests ask whether the data need flux there.
                 half in time and the short and long baselines (split at the
                 median uv distance), fluxes compared at the reference
                 frequency with the source's spectral index
-  model test    with --models A,B (A cannot make a central image, B can):
+  model test    without --models: the model with every isothermal core fixed
+                at 0 ("singular") against the model with its cores, or with a
+                free core on the ellipsoid nearest the position ("cored");
+                with --models A,B (A cannot make a central image, B can):
                 fit directories of "deflect fit" are read (their evidence when
                 fitted with method = "nested", their posterior.csv); model
                 files are fitted here (maximum a posteriori with the compressed
@@ -72,6 +75,7 @@ the report with its verdict.`,
 			fs.StringVar(&o.out, "o", "probe", "output `DIR`ectory")
 			fs.Uint64Var(&o.seed, "seed", 1, "random seed of the null simulations")
 			fs.BoolVar(&o.force, "force", false, "write into a non-empty output directory")
+			fs.BoolVar(&o.noModelTest, "no-model-test", false, "skip the model test (two fits) when --models is not given")
 		},
 		run: func(env *runEnv, args []string) error {
 			if len(args) != 1 {
@@ -117,6 +121,23 @@ the report with its verdict.`,
 					return err
 				}
 				opt.Models = mt
+			} else if o.noModelTest {
+				opt.ModelNote = "model test skipped (--no-model-test)"
+			} else {
+				a, b, err := probe.Variants(m, theta, opt.X, opt.Y)
+				if err != nil {
+					opt.ModelNote = "model test not run: " + err.Error()
+				} else {
+					fa, err := probe.FitModel(context.Background(), "singular", a, o.evals, o.seed)
+					if err != nil {
+						return err
+					}
+					fb, err := probe.FitModel(context.Background(), "cored", b, o.evals, o.seed)
+					if err != nil {
+						return err
+					}
+					opt.Models = probe.CompareModels(fa, fb)
+				}
 			}
 			res, err := probe.Run(m, theta, data, opt)
 			if err != nil {

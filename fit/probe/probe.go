@@ -28,6 +28,8 @@ type Options struct {
 	// Models, when not nil, are the model test's fits: Models.A cannot
 	// make a central image, Models.B can.
 	Models *ModelTest
+	// ModelNote, when Models is nil, says why there is no model test.
+	ModelNote string
 	// Thresholds of the verdict: a feature is "real" when its direct-test
 	// S/N ≥ RealSNR (zero means 5), the false-alarm probability ≤
 	// MaxFalseAlarm (zero means 0.01) and every split family is consistent
@@ -200,7 +202,10 @@ func Run(m *fit.Model, theta []float64, data []*uv.Dataset, opt Options) (*Resul
 			res.Predictions = append(res.Predictions, p)
 		}
 	} else {
-		res.ModelNote = "model test not run: name the pair of model files (without and with a central image) with --models A.toml,B.toml"
+		res.ModelNote = opt.ModelNote
+		if res.ModelNote == "" {
+			res.ModelNote = "model test not run: name the pair of model files (without and with a central image) with --models A.toml,B.toml"
+		}
 	}
 	res.verdict(realSNR, noneSNR, maxFA)
 	return res, nil

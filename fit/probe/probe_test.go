@@ -311,3 +311,45 @@ func TestProbeSidelobe(t *testing.T) {
 		t.Errorf("sidelobe %.3g Jy/beam does not explain the spot %.3g", res.Null.BaseAt, res.Null.ImagePeak)
 	}
 }
+
+// TestVariants checks the automatic model-test pair: the singular variant
+// of a cored model makes no central image (lensmodel.FindImages reports a
+// singular centre), the cored one does, and a singular model gains a free
+// core; the original model is left untouched.
+func TestVariants(t *testing.T) {
+	dir := t.TempDir()
+	os.WriteFile(filepath.Join(dir, "a.csv"), []byte("u,v,re,im,weight\n1,1,0,0,1\n"), 0o644)
+	os.WriteFile(filepath.Join(dir, "b.csv"), []byte("u,v,re,im,weight\n1,1,0,0,1\n"), 0o644)
+	cored, err := fit.ReadModel(scenario(t, dir, "cored.toml", 0.15, true))
+	if err != nil {
+		t.Fatal(err)
+	}
+	a, b, err := Variants(cored, cored.Start(), 0, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, tc := range []struct {
+		name string
+		m    *fit.Model
+		want bool
+	}{{"singular", a, false}, {"cored", b, true}} {
+		_, ok, _, err := centralImage(tc.m, tc.m.Start(), 0, 0, 0.2)
+		if err != nil || ok != tc.want {
+			t.Errorf("%s: central image %v (err %v), want %v", tc.name, ok, err, tc.want)
+		}
+	}
+	if v := ParamValue(cored, cored.Start(), cored.Lenses[0].Params["core"]); v != 0.15 {
+		t.Errorf("the original model's core changed to %g", v)
+	}
+	sing, err := fit.ReadModel(scenario(t, dir, "sing.toml", 0, true))
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, b2, err := Variants(sing, sing.Start(), 0, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(b2.Free) != len(sing.Free)+1 || !b2.Lenses[0].Params["core"].Free {
+		t.Errorf("cored variant of a singular model: %d free parameters, want %d with a free core", len(b2.Free), len(sing.Free)+1)
+	}
+}
