@@ -92,13 +92,13 @@ type InvertOptions struct {
 	CGTol float64
 	// Probes is the number of probe vectors of the stochastic Lanczos
 	// quadrature of ln det(F + λR), rounded up to whole rounds of
-	// ProbePeriod² (at least two rounds); 0 means 32.
+	// ProbePeriod² (at least two rounds); 0 means 72.
 	Probes int
 	// ProbePeriod p colours the node lattice by (ix mod p, iy mod p): a
 	// round of probes is one vector of random signs per colour, zero on
 	// the other colours, so that the estimate is exact for couplings
 	// between nodes closer than p along either axis (probing); 1 gives
-	// plain Rademacher vectors. 0 means 4.
+	// plain Rademacher vectors. 0 means 6.
 	ProbePeriod int
 	// LanczosSteps bounds the Lanczos steps per probe; 0 means 100.
 	LanczosSteps int
@@ -130,8 +130,8 @@ type Inversion struct {
 	// evaluations on the matrix-free path).
 	Evaluations int
 	// LogDetError is the standard error of the stochastic ln det(F + λR)
-	// of the matrix-free path, from the scatter over its rounds of
-	// probes; ln ε's is half of it. Zero on the dense path, which is
+	// of the matrix-free path, from the scatter of each colour's probes
+	// over the rounds; ln ε's is half of it. Zero on the dense path, which is
 	// exact.
 	LogDetError float64
 	// CGIterations counts the conjugate-gradient iterations of all solves

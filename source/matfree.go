@@ -99,13 +99,13 @@ func newMFSolver(op *Operator, prior *Prior, g *PixelGrid, opt InvertOptions) *m
 	}
 	pp := opt.ProbePeriod
 	if pp == 0 {
-		pp = 4
+		pp = 6
 	}
 	pp = min(pp, max(len(g.X), len(g.Y)))
 	colours := pp * pp
 	np := opt.Probes
 	if np == 0 {
-		np = 32
+		np = 72
 	}
 	sv.rounds = max(2, (np+colours-1)/colours)
 	// Random signs on each colour class, drawn once: every λ sees the same
@@ -304,21 +304,26 @@ func (sv *mfSolver) logDet(lambda float64) (est, stderr float64, err error) {
 		}
 		sv.steps += steps[l]
 	}
-	// Each round of probes is an unbiased estimate of tr ln Ã.
+	// Each round of probes is an unbiased estimate of tr ln Ã, the sum
+	// over colours of independent terms; the variance of a round is the
+	// sum of the colours' variances, each estimated from its values
+	// across rounds, which gives (rounds − 1)·colours degrees of freedom
+	// to the standard error rather than rounds − 1.
 	per := len(vals) / sv.rounds
-	est0 := make([]float64, sv.rounds)
-	for l, v := range vals {
-		est0[l/per] += v
+	var mean, vr float64
+	for c := range per {
+		var mc float64
+		for r := range sv.rounds {
+			mc += vals[r*per+c]
+		}
+		mc /= float64(sv.rounds)
+		mean += mc
+		for r := range sv.rounds {
+			d := vals[r*per+c] - mc
+			vr += d * d / float64(sv.rounds-1)
+		}
 	}
-	var mean, ss float64
-	for _, v := range est0 {
-		mean += v
-	}
-	mean /= float64(sv.rounds)
-	for _, v := range est0 {
-		ss += (v - mean) * (v - mean)
-	}
-	stderr = math.Sqrt(ss / float64(sv.rounds-1) / float64(sv.rounds))
+	stderr = math.Sqrt(vr / float64(sv.rounds))
 	return sv.logDetM + mean, stderr, nil
 }
 
