@@ -79,6 +79,7 @@ func DirtyFigure(d DirtyImages) (*Figure, error) {
 	lim := math.Max(3, math.Min(6, math.Max(-rlo, rhi)))
 
 	f := &Figure{Width: PageWidth, Height: 2.3 * vg.Inch}
+	row := make(skyRow, 3)
 	titles := []string{"data", "model", fmt.Sprintf("residual (σ = %s mJy/beam)", fmtG(sigma*mJy))}
 	for k, v := range views {
 		var p *plot.Plot
@@ -104,8 +105,9 @@ func DirtyFigure(d DirtyImages) (*Figure, error) {
 		p.Title.Text = titles[k]
 		p.Add(beamMark{d.Beam})
 		freezeRange(p, v)
-		f.Add(float64(k)/3, 0, float64(k+1)/3, 1, imagePanel{p: p, bar: bar})
+		row[k] = imagePanel{p: p, bar: bar}
 	}
+	f.Add(0, 0, 1, 1, row)
 	return f, nil
 }
 

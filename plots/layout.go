@@ -118,9 +118,21 @@ func (ip imagePanel) plotCanvas(c draw.Canvas) draw.Canvas {
 func (ip imagePanel) Draw(c draw.Canvas) {
 	pc := ip.plotCanvas(c)
 	thinXTicks(ip.p, pc)
+	dc := ip.p.DataCanvas(pc)
+	// The plot reserves the title's room but would centre it over the
+	// whole plot, axis labels included; it is written over the image.
+	title := ip.p.Title
+	ip.p.Title.TextStyle.Color = color.Transparent
 	ip.p.Draw(pc)
+	ip.p.Title = title
+	if title.Text != "" {
+		sty := title.TextStyle
+		w := sty.Width(title.Text)
+		x := (dc.Min.X + dc.Max.X) / 2
+		x = max(min(x, c.Max.X-panelMargin-w/2), pc.Min.X+w/2)
+		c.FillText(sty, vg.Point{X: x, Y: pc.Max.Y + sty.FontExtents().Descent}, title.Text)
+	}
 	if ip.bar != nil {
-		dc := ip.p.DataCanvas(pc)
 		ip.bar.draw(inset(c, panelMargin), dc.Max.X+vg.Length(4), dc.Min.Y, dc.Max.Y)
 	}
 }

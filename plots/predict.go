@@ -49,7 +49,8 @@ func PredictFigure(pr Prediction) (*Figure, error) {
 		{pr.Source, pr.Caustics, pr.Sources, "source plane: source, caustics", srcXLbl, srcYLbl,
 			draw.GlyphStyle{Color: qualitative[1], Radius: 2.5, Shape: draw.PlusGlyph{}}},
 	}
-	for k, s := range sides {
+	var row skyRow
+	for _, s := range sides {
 		var p *plot.Plot
 		var bar *colorBar
 		curveCol := black
@@ -85,8 +86,9 @@ func PredictFigure(pr Prediction) (*Figure, error) {
 				return nil, fmt.Errorf("plots: %s: %w", s.title, err)
 			}
 		}
-		f.Add(float64(k)/2, 0, float64(k+1)/2, 1, imagePanel{p: p, bar: bar})
+		row = append(row, imagePanel{p: p, bar: bar})
 	}
+	f.Add(0, 0, 1, 1, row)
 	return f, nil
 }
 

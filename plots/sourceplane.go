@@ -57,6 +57,7 @@ func SourceFigure(s SourceImage) (*Figure, error) {
 	if len(ims) == 2 {
 		f.Width = PageWidth * 0.8
 	}
+	row := make(skyRow, len(ims))
 	for k, im := range ims {
 		v, err := newView(im, s.Zoom)
 		if err != nil {
@@ -69,8 +70,8 @@ func SourceFigure(s SourceImage) (*Figure, error) {
 			return nil, fmt.Errorf("plots: caustics: %w", err)
 		}
 		freezeRange(p, v)
-		f.Add(float64(k)/float64(len(ims)), 0, float64(k+1)/float64(len(ims)), 1,
-			imagePanel{p: p, bar: &colorBar{cm: Viridis, lo: lo, hi: hi, label: s.Unit}})
+		row[k] = imagePanel{p: p, bar: &colorBar{cm: Viridis, lo: lo, hi: hi, label: s.Unit}}
 	}
+	f.Add(0, 0, 1, 1, row)
 	return f, nil
 }
