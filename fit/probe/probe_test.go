@@ -7,6 +7,8 @@ import (
 	"math/rand/v2"
 	"os"
 	"path/filepath"
+	"runtime"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
@@ -307,6 +309,9 @@ func TestProbeSidelobe(t *testing.T) {
 	if math.Abs(res.Direct.FixedSNR) > 3 {
 		t.Errorf("direct test finds %.1fσ at the centre", res.Direct.FixedSNR)
 	}
+	if !strings.Contains(res.Summary, "sidelobe") {
+		t.Errorf("the summary does not attribute the spot to sidelobes: %s", res.Summary)
+	}
 	if res.Null.BaseAt < 0.5*res.Null.ImagePeak {
 		t.Errorf("sidelobe %.3g Jy/beam does not explain the spot %.3g", res.Null.BaseAt, res.Null.ImagePeak)
 	}
@@ -351,5 +356,39 @@ func TestVariants(t *testing.T) {
 	}
 	if len(b2.Free) != len(sing.Free)+1 || !b2.Lenses[0].Params["core"].Free {
 		t.Errorf("cored variant of a singular model: %d free parameters, want %d with a free core", len(b2.Free), len(sing.Free)+1)
+	}
+}
+
+// TestNullDeterministic checks that the null simulations give the same peaks
+// bit for bit whatever the number of cores.
+func TestNullDeterministic(t *testing.T) {
+	rnd := rand.New(rand.NewPCG(2, 2))
+	d := &uv.Dataset{Meta: uv.Meta{Label: "x"}}
+	for range 300 {
+		d.U, d.V = append(d.U, (rnd.Float64()-0.5)*4e5), append(d.V, (rnd.Float64()-0.5)*4e5)
+		d.Re, d.Im = append(d.Re, rnd.NormFloat64()), append(d.Im, rnd.NormFloat64())
+		d.Weight = append(d.Weight, 1)
+	}
+	var r Rows
+	r.Add(d, nil, 1)
+	g := uv.Grid{N: 64, Pixel: 0.05}
+	var peaks [2][]float64
+	for i, procs := range []int{1, 2} {
+		old := runtime.GOMAXPROCS(procs)
+		im, err := NewImager(&r, g, uv.Natural, 0, 0, 0, 0.2)
+		if err != nil {
+			t.Fatal(err)
+		}
+		n, err := NullTest(&r, im, 16, 5)
+		runtime.GOMAXPROCS(old)
+		if err != nil {
+			t.Fatal(err)
+		}
+		peaks[i] = n.Peaks
+	}
+	for k := range peaks[0] {
+		if peaks[0][k] != peaks[1][k] {
+			t.Fatalf("simulation %d: peak %v with 1 core, %v with 2", k, peaks[0][k], peaks[1][k])
+		}
 	}
 }
