@@ -115,7 +115,10 @@ type InvertOptions struct {
 // Inversion is the most probable pixelated source for a lens model.
 type Inversion struct {
 	Source   []float64 // s_MP at the nodes, Jy/arcsec²
-	Sigma    []float64 // √diag (F + λR)⁻¹, Jy/arcsec²; nil with NoErrors
+	// Sigma is √diag (F + λR)⁻¹ in Jy/arcsec², nil with NoErrors; on the
+	// matrix-free path a probing estimate (see InvertMatrixFree), NaN at
+	// a node where it came out non-positive.
+	Sigma    []float64
 	Lambda   float64   // regularisation constant used
 	Evidence Evidence
 	// Neff is the effective number of source degrees of freedom,
