@@ -114,12 +114,12 @@ type InvertOptions struct {
 
 // Inversion is the most probable pixelated source for a lens model.
 type Inversion struct {
-	Source   []float64 // s_MP at the nodes, Jy/arcsec²
+	Source []float64 // s_MP at the nodes, Jy/arcsec²
 	// Sigma is √diag (F + λR)⁻¹ in Jy/arcsec², nil with NoErrors; on the
 	// matrix-free path a probing estimate (see InvertMatrixFree), NaN at
 	// a node where it came out non-positive.
 	Sigma    []float64
-	Lambda   float64   // regularisation constant used
+	Lambda   float64 // regularisation constant used
 	Evidence Evidence
 	// Neff is the effective number of source degrees of freedom,
 	// N_s − λ tr((F + λR)⁻¹ R) (MacKay 1992; Suyu et al. 2006, sect. 2.3);
