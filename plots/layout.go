@@ -117,14 +117,16 @@ func (ip imagePanel) plotCanvas(c draw.Canvas) draw.Canvas {
 
 func (ip imagePanel) Draw(c draw.Canvas) {
 	pc := ip.plotCanvas(c)
+	// Thinned ticks and the hidden title last for this drawing only, so a
+	// figure drawn again at another size starts afresh.
+	marker, title := ip.p.X.Tick.Marker, ip.p.Title
 	thinXTicks(ip.p, pc)
 	dc := ip.p.DataCanvas(pc)
 	// The plot reserves the title's room but would centre it over the
 	// whole plot, axis labels included; it is written over the image.
-	title := ip.p.Title
 	ip.p.Title.TextStyle.Color = color.Transparent
 	ip.p.Draw(pc)
-	ip.p.Title = title
+	ip.p.X.Tick.Marker, ip.p.Title = marker, title
 	if title.Text != "" {
 		sty := title.TextStyle
 		w := sty.Width(title.Text)

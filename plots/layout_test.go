@@ -117,3 +117,36 @@ func TestTitled(t *testing.T) {
 		t.Errorf("%d dark pixels in the title band, want text", dark)
 	}
 }
+
+// A sky panel too narrow for its default x labels gets fewer, and they no
+// longer touch; a wide one keeps its labels.
+func TestThinXTicks(t *testing.T) {
+	im := SkyImage{N: 48, Pixel: 0.03, Values: make([]float64, 48*48)}
+	v, _ := newView(im, nil)
+	for _, tc := range []struct {
+		name    string
+		width   vg.Length
+		crowded bool // before thinning
+	}{
+		{"narrow", 1.4 * vg.Inch, true},
+		{"wide", 5 * vg.Inch, false},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			p := skyPlot(v, Viridis, 0, 1, 1, eastLbl, nrthLbl)
+			c := draw.New(vgimg.New(tc.width, tc.width))
+			dc := p.DataCanvas(c)
+			w := dc.Max.X - dc.Min.X
+			if got := xLabelsCrowded(p, w); got != tc.crowded {
+				t.Fatalf("crowded before thinning = %v, want %v (fixture no longer exercises the case)", got, tc.crowded)
+			}
+			before := p.X.Tick.Marker
+			thinXTicks(p, c)
+			if xLabelsCrowded(p, w) {
+				t.Error("labels still crowded after thinning")
+			}
+			if !tc.crowded && p.X.Tick.Marker != before {
+				t.Error("uncrowded labels were thinned")
+			}
+		})
+	}
+}
