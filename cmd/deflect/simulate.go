@@ -1,9 +1,11 @@
 package main
 
 import (
+	"bytes"
 	"flag"
 	"fmt"
 	"math/rand/v2"
+	"os"
 	"strconv"
 	"strings"
 
@@ -79,7 +81,7 @@ The same --seed gives the same table bit for bit.`,
 			if (o.like == "") == (o.array == "") {
 				return usagef("give exactly one of --like TABLE and --array FILE")
 			}
-			m, err := fit.ReadModel(args[0])
+			m, err := simulateModel(args[0])
 			if err != nil {
 				return err
 			}
@@ -172,4 +174,38 @@ func simulateInto(m *fit.Model, d *uv.Dataset, seed uint64, noiseless bool) erro
 		rnd = rand.New(rand.NewPCG(seed, 0x5eed))
 	}
 	return probe.Simulate(sky, m.Start(), idx, d, probe.Disc{}, rnd)
+}
+
+// simulateModel reads the model file at path. A model without [[data]]
+// tables (nothing observed yet) is accepted: it is validated with a
+// placeholder dataset, which the simulation does not use.
+func simulateModel(path string) (*fit.Model, error) {
+	doc, err := os.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
+	if bytes.Contains(doc, []byte("[[data]]")) {
+		return fit.ReadModel(path)
+	}
+	tmp, err := os.CreateTemp("", "deflect-simulate-*.csv")
+	if err != nil {
+		return nil, err
+	}
+	defer os.Remove(tmp.Name())
+	if _, err := tmp.WriteString("u,v,re,im,weight\n1,1,0,0,1\n"); err != nil {
+		tmp.Close()
+		return nil, err
+	}
+	if err := tmp.Close(); err != nil {
+		return nil, err
+	}
+	// Appended after the file's own tables, so that its line numbers in
+	// error messages stay right.
+	extra := fmt.Sprintf("\n[[data]]\nfile = %q\nlabel = \"placeholder\"\n", tmp.Name())
+	m, err := fit.ParseModel(path, append(doc, extra...))
+	if err != nil {
+		return nil, err
+	}
+	m.Data = nil
+	return m, nil
 }

@@ -10,12 +10,9 @@ import (
 	"deflect/uv"
 )
 
-const simulateModel = `[sky]
+const simulateModelDoc = `[sky]
 pixel = 0.05
 size = 64
-
-[[data]]
-file = "placeholder.csv"
 
 [[lens]]
 kind = "sie"
@@ -37,7 +34,7 @@ flux = 5.0
 func TestSimulateArray(t *testing.T) {
 	dir := t.TempDir()
 	model := filepath.Join(dir, "m.toml")
-	if err := os.WriteFile(model, []byte(simulateModel), 0o644); err != nil {
+	if err := os.WriteFile(model, []byte(simulateModelDoc), 0o644); err != nil {
 		t.Fatal(err)
 	}
 	if err := os.WriteFile(filepath.Join(dir, "placeholder.csv"), []byte("u,v,re,im,weight\n1,1,0,0,1\n"), 0o644); err != nil {
