@@ -122,10 +122,15 @@ func (ip imagePanel) Draw(c draw.Canvas) {
 	marker, title := ip.p.X.Tick.Marker, ip.p.Title
 	thinXTicks(ip.p, pc)
 	dc := ip.p.DataCanvas(pc)
-	// The plot reserves the title's room but would centre it over the
-	// whole plot, axis labels included; it is written over the image.
-	ip.p.Title.TextStyle.Color = color.Transparent
-	ip.p.Draw(pc)
+	// The plot would centre its title over the whole plot, axis labels
+	// included; instead it is drawn untitled below the title's room (the
+	// same data area) and the title is written centred over the image.
+	top := pc
+	if title.Text != "" {
+		top.Max.Y -= title.TextStyle.Rectangle(title.Text).Size().Y + title.Padding
+		ip.p.Title.Text = ""
+	}
+	ip.p.Draw(top)
 	ip.p.X.Tick.Marker, ip.p.Title = marker, title
 	if title.Text != "" {
 		sty := title.TextStyle
