@@ -128,8 +128,8 @@ func runDemo(env *runEnv, dir string, force, quick bool) error {
 		fits = append(fits, f)
 	}
 	mt := probe.CompareModels(fits[0], fits[1])
-	cmp := fmt.Sprintf("halo over nohalo: Δχ² = %.1f, ΔBIC = %.1f, ln Bayes factor (Laplace) = %.1f\nmethod: %s\ncaution: the evidence depends on the priors.\n",
-		mt.DeltaChi2, mt.DeltaBIC, mt.LnBayes, mt.Method)
+	cmp := fmt.Sprintf("halo over nohalo: Δχ² = %.1f, ΔBIC = %.1f, ln Bayes factor = %.1f (%s)\nmethod: %s\ncaution: the evidence depends on the priors.\n",
+		mt.DeltaChi2, mt.DeltaBIC, mt.LnBayes, mt.LnBayesFrom, mt.Method)
 	if err := atomicfile.WriteBytes(filepath.Join(dir, "compare.txt"), true, []byte(cmp)); err != nil {
 		return err
 	}

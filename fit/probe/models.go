@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"strings"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -162,15 +163,23 @@ func (mf *ModelFit) finish(kfree int) {
 
 // ModelTest compares a model that cannot make a central image (A) with one
 // that can (B).
+//
+// References:
+//
+//   - Schwarz G. 1978, Annals of Statistics 6, 461 (the BIC and ln Z ≈
+//     −BIC/2).
 type ModelTest struct {
 	A, B *ModelFit
 	// DeltaChi2 = χ²_A − χ²_B and DeltaBIC = BIC_A − BIC_B (positive:
 	// B preferred); LnBayes = ln Z_B − ln Z_A (Laplace approximation).
-	DeltaChi2  float64  `json:"delta_chi2"`
-	DeltaBIC   float64  `json:"delta_bic"`
-	LnBayes    float64  `json:"-"`
-	LnBayesErr float64  `json:"ln_bayes_factor_err,omitempty"`
-	LnBayesJS  *float64 `json:"ln_bayes_factor_b_over_a"` // LnBayes, null when NaN
+	DeltaChi2  float64 `json:"delta_chi2"`
+	DeltaBIC   float64 `json:"delta_bic"`
+	LnBayes    float64 `json:"-"`
+	LnBayesErr float64 `json:"ln_bayes_factor_err,omitempty"`
+	// LnBayesFrom names how LnBayes was obtained: "nested sampling",
+	// "Laplace approximation" or "Schwarz approximation ΔBIC/2".
+	LnBayesFrom string   `json:"ln_bayes_factor_from"`
+	LnBayesJS   *float64 `json:"ln_bayes_factor_b_over_a"` // LnBayes, null when NaN
 	// Method says how the fits and evidences were computed.
 	Method string `json:"method"`
 }
@@ -187,8 +196,21 @@ func CompareModels(a, b *ModelFit) *ModelTest {
 	if !math.IsNaN(lnB) {
 		js = &lnB
 	}
+	dBIC := a.BIC - b.BIC
+	from := "Laplace approximation"
+	if a.LogZMethod == "nested sampling" && b.LogZMethod == "nested sampling" {
+		from = "nested sampling"
+	}
+	if math.IsNaN(lnB) {
+		from = "Schwarz approximation ΔBIC/2"
+		// Schwarz (1978): ln Z ≈ −BIC/2 to O(1), so ln B ≈ ΔBIC/2.
+		lnB = dBIC / 2
+		js = &lnB
+		method += "; an evidence was unavailable (" + strings.TrimSpace(a.LogZNote+" "+b.LogZNote) +
+			"), so ln B is the Schwarz approximation ΔBIC/2, good to O(1)"
+	}
 	return &ModelTest{A: a, B: b, LnBayesJS: js, LnBayesErr: math.Hypot(a.LogZErr, b.LogZErr),
-		DeltaChi2: a.Chi2 - b.Chi2, DeltaBIC: a.BIC - b.BIC, LnBayes: lnB,
+		DeltaChi2: a.Chi2 - b.Chi2, DeltaBIC: dBIC, LnBayes: lnB, LnBayesFrom: from,
 		Method: method}
 }
 

@@ -244,8 +244,8 @@ func (r *Result) verdict(realSNR, noneSNR, maxFA float64) {
 	modelText := ""
 	modelSupports := true
 	if mt := r.Models; mt != nil {
-		r.Reasons = append(r.Reasons, fmt.Sprintf("model test: Δχ² = %.1f, ΔBIC = %.1f, ln B = %.1f in favour of %s over %s",
-			mt.DeltaChi2, mt.DeltaBIC, mt.LnBayes, mt.B.Name, mt.A.Name))
+		r.Reasons = append(r.Reasons, fmt.Sprintf("model test: Δχ² = %.1f, ΔBIC = %.1f, ln B = %.1f (%s) for %s over %s",
+			mt.DeltaChi2, mt.DeltaBIC, mt.LnBayes, mt.LnBayesFrom, mt.B.Name, mt.A.Name))
 		modelSupports = mt.DeltaBIC > 0
 		for _, p := range r.Predictions {
 			if !p.Present {
