@@ -175,9 +175,23 @@ func nfwKbar(x float64) float64 {
 }
 
 // nfwPsi returns ψ/(2κ_s r_s²) = ln²(x/2) − (1 − x²) F².
+//
+// For x < 1 the two squares cancel toward the centre (ψ ∝ x² ln² x while
+// each term grows as ln² x). With s = √(1 − x²), (1 − x²) F² = ln²((1 + s)/x),
+// and the difference of squares factors as
+//
+//	ψ/(2κ_s r_s²) = ln ε · ln(1 − ε),   ε = (1 − s)/2 = x²/(2(1 + s)),
+//
+// which is used below x = 0.5 (derived for this package; checked against
+// the quadrature of α in the tests).
 func nfwPsi(x float64) float64 {
 	if x == 0 {
 		return 0
+	}
+	if x < 0.5 {
+		x2 := x * x
+		eps := x2 / (2 * (1 + math.Sqrt(1-x2)))
+		return math.Log(eps) * math.Log1p(-eps)
 	}
 	l := math.Log(x / 2)
 	f := nfwF(x)

@@ -1,6 +1,7 @@
 package lensmodel
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -92,6 +93,29 @@ func TestNFWDerivatives(t *testing.T) {
 		// Points with x = R/r_s near 1, where the series takes over.
 		pts = append(pts, fdCase{m.X + m.Rs*0.999, m.Y}, fdCase{m.X, m.Y + m.Rs*1.02})
 		checkMassDerivatives(t, m, pts, 1e-3, 1e-9, 1e-7)
+		// Near the cusp, with a step of 1/200 of the distance.
+		for _, r := range []float64{1e-3, 1e-2, 0.1} {
+			near := []fdCase{{m.X + 0.8*r, m.Y - 0.6*r}, {m.X - 0.3*r, m.Y + 0.95*r}}
+			checkMassDerivatives(t, m, near, r/200, 1e-9, 1e-6)
+		}
+	}
+}
+
+// TestNFWPotentialCentre: for the spherical halo ψ(R) = ∫_0^R α(r) dr
+// (α = dψ/dr; SEF 1992 eq. 8.3), integrated by Gauss–Legendre quadrature in
+// ln r of the deflection (itself checked against Wright & Brainerd 2000
+// above), to 1e-11 relative down to R = 10⁻⁶ r_s, where the two terms of
+// ln²(x/2) − (1 − x²)F² cancel to 1e-10 of their size.
+func TestNFWPotentialCentre(t *testing.T) {
+	m := NFW{KappaS: 0.25, Rs: 3, Q: 1}
+	for _, x := range []float64{1e-6, 1e-4, 1e-2, 0.3, 0.49, 0.51, 2} {
+		R := x * m.Rs
+		want := quad.Fixed(func(lr float64) float64 {
+			r := math.Exp(lr)
+			ax, _ := m.Deflect(r, 0)
+			return ax * r
+		}, math.Log(R)-40, math.Log(R), 400, nil, 0)
+		checkClose(t, fmt.Sprintf("ψ(%g r_s)", x), m.Potential(R, 0), want, 0, 1e-11)
 	}
 }
 
