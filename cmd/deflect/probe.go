@@ -62,8 +62,16 @@ radius is removed first, so the tests ask whether the data need flux there.
                 and the central image each predicts (FindImages on its best
                 fit, spread over posterior draws)
 
-Writes DIR/probe.json (every number), DIR/probe.png (the panel) and prints
-the report with its verdict.`,
+The verdict is "real" when the direct test gives ≥ 5σ, the false-alarm
+probability is ≤ 1%, every split's flux is positive and each family of
+splits is consistent (p ≥ 0.01), and the model test prefers the model that
+makes a central image (ΔBIC > 0); "not significant" below 3σ or above a 5%
+false-alarm probability (with the spot attributed to the other images'
+sidelobes when they make at least half of it); "inconclusive" otherwise.
+It is always given with its numbers.
+
+Writes DIR/probe.json (every number), DIR/probe.png (the panel: residual
+cut-out, direct and split fluxes, null distribution) and prints the report.`,
 		setFlags: func(fs *flag.FlagSet) {
 			fs.StringVar(&o.at, "at", "", "probed position `X,Y` in arcsec east and north of the phase centre")
 			fs.Float64Var(&o.radius, "radius", 0, "search radius in `ARCSEC` (default: 3 sky pixels)")
