@@ -16,6 +16,10 @@ import "sync"
 // as for GNFW (radialTable). Q and PA make the potential elliptical exactly
 // as for NFW, with the same limit MaxPotentialEllipticity; at the limit the
 // iso-density contours stay convex inside 3.8 r_0 (measured).
+//
+// References:
+//   - Burkert A., 1995, ApJ 447, L25, eq. 2 (the density profile).
+//   - Golse G., Kneib J.-P., 2002, A&A 390, 821 (the elliptical potential).
 type Burkert struct {
 	X, Y   float64 // centre, arcsec
 	KappaS float64 // κ_s = ρ_0 r_0 / Σ_cr (dimensionless)

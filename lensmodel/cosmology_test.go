@@ -1,9 +1,12 @@
 package lensmodel
 
 import (
+	"bytes"
 	"encoding/csv"
 	"math"
 	"os"
+	"os/exec"
+	"path/filepath"
 	"strconv"
 	"strings"
 	"testing"
@@ -60,6 +63,78 @@ func TestCosmologyAstropy(t *testing.T) {
 	for _, k := range []string{"flat", "open", "closed"} {
 		if kinds[k] < 10 {
 			t.Errorf("%d %s rows, want ≥ 10", kinds[k], k)
+		}
+	}
+}
+
+// TestCosmologyAstropyTable reruns gen_astropy.py and checks that it
+// reproduces astropy_distances.csv exactly, so the checked-in reference is
+// what astropy gives (skipped without a python3 that imports astropy,
+// failed instead when DEFLECT_REQUIRE_ASTROPY=1).
+func TestCosmologyAstropyTable(t *testing.T) {
+	if testing.Short() {
+		t.Skip("runs python3 with astropy")
+	}
+	var py string
+	cands := []string{"/usr/bin/python3"}
+	if p, err := exec.LookPath("python3"); err == nil {
+		cands = append(cands, p)
+	}
+	for _, p := range cands {
+		if exec.Command(p, "-c", "import astropy.cosmology").Run() == nil {
+			py = p
+			break
+		}
+	}
+	if py == "" {
+		if os.Getenv("DEFLECT_REQUIRE_ASTROPY") == "1" {
+			t.Fatal("no python3 that imports astropy (DEFLECT_REQUIRE_ASTROPY=1); install python3-astropy")
+		}
+		t.Skip("no python3 that imports astropy; install python3-astropy to rerun gen_astropy.py")
+	}
+	cmd := exec.Command(py, "gen_astropy.py")
+	cmd.Dir = filepath.Join("..", "testdata", "cosmology")
+	var stderr bytes.Buffer
+	cmd.Stderr = &stderr
+	got, err := cmd.Output()
+	if err != nil {
+		t.Fatalf("gen_astropy.py: %v\n%s", err, stderr.String())
+	}
+	want, err := os.ReadFile(filepath.Join("..", "testdata", "cosmology", "astropy_distances.csv"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	// The comment line names the astropy version; the rows must agree to
+	// 1e-12 relative (last-digit changes between astropy versions pass).
+	rows := func(b []byte) [][]string {
+		r := csv.NewReader(bytes.NewReader(b))
+		r.Comment = '#'
+		out, err := r.ReadAll()
+		if err != nil {
+			t.Fatal(err)
+		}
+		return out
+	}
+	g, w := rows(got), rows(want)
+	if len(g) != len(w) {
+		t.Fatalf("gen_astropy.py writes %d rows, astropy_distances.csv has %d", len(g), len(w))
+	}
+	for i := range w {
+		if len(g[i]) != len(w[i]) {
+			t.Fatalf("row %d: %d fields, want %d", i+1, len(g[i]), len(w[i]))
+		}
+		for k := range w[i] {
+			a, errA := strconv.ParseFloat(g[i][k], 64)
+			b, errB := strconv.ParseFloat(w[i][k], 64)
+			if errA != nil || errB != nil {
+				if g[i][k] != w[i][k] {
+					t.Errorf("row %d field %d: %q, file has %q", i+1, k+1, g[i][k], w[i][k])
+				}
+				continue
+			}
+			if math.Abs(a-b) > 1e-12*math.Abs(b) {
+				t.Errorf("row %d field %d: astropy now gives %.17g, file has %.17g", i+1, k+1, a, b)
+			}
 		}
 	}
 }

@@ -28,6 +28,15 @@ import (
 // At the limit the iso-density contours stay convex inside 1.3 r_s for
 // γ = 1.5 and 5.4 r_s for γ = 0 (measured), so keep Q near 1 for steep cusps
 // whose lensing extends beyond r_s.
+//
+// References:
+//   - Zhao H., 1996, MNRAS 278, 488, eq. 1 (the (α, β, γ) density family;
+//     here α = 1, β = 3; equation number from memory).
+//   - Wyithe J. S. B., Turner E. L., Spergel D. N., 2001, ApJ 555, 504,
+//     sect. 2 (the lensing of the generalised NFW profile; the
+//     line-of-sight integral above, from memory, is checked in the tests
+//     against an independent quadrature).
+//   - Golse G., Kneib J.-P., 2002, A&A 390, 821 (the elliptical potential).
 type GNFW struct {
 	X, Y   float64 // centre, arcsec
 	KappaS float64 // κ_s = ρ_s r_s / Σ_cr (dimensionless)

@@ -110,6 +110,17 @@ func TestTabulatedDerivatives(t *testing.T) {
 	// Inside the Burkert core.
 	b := Burkert{KappaS: 0.5, Rs: 1.5, Q: 0.9, PA: 100}
 	checkMassDerivatives(t, b, []fdCase{{0.01, 0.02}, {-0.2, 0.1}}, 1e-3, 1e-9, 1e-7)
+	// Close to the centre of a cored (γ = 0) and a steep (γ = 1.7) inner
+	// profile, with a step of 1/200 of the distance.
+	for _, m := range []GNFW{
+		{X: 0.1, Y: -0.2, KappaS: 0.3, Rs: 2, Gamma: 0, Q: 0.85, PA: 35},
+		{X: 0.1, Y: -0.2, KappaS: 0.3, Rs: 2, Gamma: 1.7, Q: 0.85, PA: 35},
+	} {
+		for _, r := range []float64{1e-3, 1e-2, 0.1} {
+			near := []fdCase{{m.X + 0.8*r, m.Y - 0.6*r}, {m.X - 0.3*r, m.Y + 0.95*r}}
+			checkMassDerivatives(t, m, near, r/200, 1e-9, 1e-6)
+		}
+	}
 }
 
 func TestTabulatedEllipticityLimit(t *testing.T) {

@@ -16,6 +16,12 @@ import "math"
 // ψ_xy = γ sin 2φ_γ, and κ = 0. Images are stretched along φ_γ. The centre
 // only adds a constant deflection and potential gradient; it is usually left
 // at the origin.
+//
+// References:
+//   - Schneider P., Ehlers J., Falco E. E., 1992, Gravitational Lenses
+//     (Springer), sect. 5.5 (the quadratic potential of an external shear;
+//     section from memory). The angle convention is that of
+//     conventions.md, pinned by the tests.
 type Shear struct {
 	Gamma float64 // shear strength γ (dimensionless)
 	Angle float64 // shear angle φ_γ, degrees east of north

@@ -8,6 +8,13 @@ package lensmodel
 //
 // r⃗ the offset from (X, Y) in arcsec (the centre only adds a constant
 // deflection; it is usually left at the origin). κ may be negative.
+//
+// References:
+//   - Falco E. E., Gorenstein M. V., Shapiro I. I., 1985, ApJ 289, L1 (the
+//     mass sheet and the degeneracy it introduces into lens models).
+//   - Schneider P., Ehlers J., Falco E. E., 1992, Gravitational Lenses
+//     (Springer), sect. 5.5 (μ = 1/(1 − κ)² of a uniform sheet; section
+//     from memory).
 type Sheet struct {
 	KappaExt float64 // convergence κ (dimensionless); the method Kappa returns it
 	X, Y     float64 // centre, arcsec
