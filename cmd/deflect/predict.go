@@ -52,8 +52,13 @@ Lens kinds and parameters (arcsec, degrees east of north):
   sie       x, y, theta_e, q (1), pa (0), core (0)
   powerlaw  x, y, theta_e, q (1), pa (0), slope (2, the 3-D slope)
   nfw       x, y, kappa_s, r_s, q (1), pa (0); or m200 (M_sun) and c with a cosmology
-  shear     gamma, angle (0)
+  gnfw      x, y, kappa_s, r_s, gamma (1, the inner 3-D slope in [0, 2)), q (1), pa (0)
+  burkert   x, y, kappa_s, r_s (the core radius), q (1), pa (0)
+  shear     gamma, angle (0), x (0), y (0)
   sheet     kappa
+
+For nfw, gnfw and burkert q is the axis ratio of the potential, at least
+0.8165 (the limit of the elliptical-potential form).
 
 For each image: position, signed magnification μ (negative for saddle
 points), parity and kind (minimum, saddle or maximum of the arrival time),

@@ -48,9 +48,11 @@ var predictLensKinds = map[string]map[string]float64{
 	"sie":      {"x": 0, "y": 0, "theta_e": math.NaN(), "q": 1, "pa": 0, "core": 0},
 	"powerlaw": {"x": 0, "y": 0, "theta_e": math.NaN(), "q": 1, "pa": 0, "slope": 2},
 	// kappa_s and r_s, or m200 (M_sun) and c with the cosmology; see build.
-	"nfw":   {"x": 0, "y": 0, "kappa_s": math.NaN(), "r_s": math.NaN(), "m200": math.NaN(), "c": math.NaN(), "q": 1, "pa": 0},
-	"shear": {"gamma": math.NaN(), "angle": 0},
-	"sheet": {"kappa": math.NaN()},
+	"nfw":     {"x": 0, "y": 0, "kappa_s": math.NaN(), "r_s": math.NaN(), "m200": math.NaN(), "c": math.NaN(), "q": 1, "pa": 0},
+	"gnfw":    {"x": 0, "y": 0, "kappa_s": math.NaN(), "r_s": math.NaN(), "gamma": 1, "q": 1, "pa": 0},
+	"burkert": {"x": 0, "y": 0, "kappa_s": math.NaN(), "r_s": math.NaN(), "q": 1, "pa": 0},
+	"shear":   {"gamma": math.NaN(), "angle": 0, "x": 0, "y": 0},
+	"sheet":   {"kappa": math.NaN()},
 }
 
 var predictCosmologyKeys = []string{"z_lens", "z_source", "H0", "Om", "Ode"}
@@ -377,8 +379,12 @@ func (s predictLensSpec) component(cosmo *predictCosmo) (lensmodel.Mass, error) 
 			return nil, errors.New("give either kappa_s and r_s, or m200 and c")
 		}
 		return lensmodel.NFW{X: p["x"], Y: p["y"], KappaS: p["kappa_s"], Rs: p["r_s"], Q: p["q"], PA: p["pa"]}, nil
+	case "gnfw":
+		return lensmodel.GNFW{X: p["x"], Y: p["y"], KappaS: p["kappa_s"], Rs: p["r_s"], Gamma: p["gamma"], Q: p["q"], PA: p["pa"]}, nil
+	case "burkert":
+		return lensmodel.Burkert{X: p["x"], Y: p["y"], KappaS: p["kappa_s"], Rs: p["r_s"], Q: p["q"], PA: p["pa"]}, nil
 	case "shear":
-		return lensmodel.Shear{Gamma: p["gamma"], Angle: p["angle"]}, nil
+		return lensmodel.Shear{Gamma: p["gamma"], Angle: p["angle"], X: p["x"], Y: p["y"]}, nil
 	case "sheet":
 		return lensmodel.Sheet{KappaExt: p["kappa"]}, nil
 	}
