@@ -159,6 +159,36 @@ func ReadModel(path string) (*Model, error) {
 // are relative to its directory). All problems found are returned together,
 // joined, each a *ModelError.
 func ParseModel(path string, doc []byte) (*Model, error) {
+	return ParseModelOptions{}.Parse(path, doc)
+}
+
+// ReadLensModel reads the model file at path for a command that needs only
+// the lens and the cosmology (deflect predict): see
+// ParseModelOptions.LensOnly.
+func ReadLensModel(path string) (*Model, error) {
+	doc, err := os.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
+	return ParseModelOptions{LensOnly: true}.Parse(path, doc)
+}
+
+// ParseModelOptions selects how much of a model file ParseModelOptions.Parse
+// requires.
+type ParseModelOptions struct {
+	// LensOnly reads a model file for the lens and the cosmology alone: at
+	// least one [[lens]] table is required, [cosmology] stays optional
+	// (needed only by NFW halos given by m200 and c), and [[data]] and
+	// [[source]] tables are not required. When present, every table is
+	// still validated for syntax, keys, values and ties as by ParseModel,
+	// except that data files need not exist (they are not read, and a model
+	// file may be used for predictions before its data arrive).
+	LensOnly bool
+}
+
+// Parse validates the model file contents doc, named path, as ParseModel
+// does, with the requirements of o.
+func (o ParseModelOptions) Parse(path string, doc []byte) (*Model, error) {
 	root, err := parseTOML(doc)
 	if err != nil {
 		var te *tomlError
@@ -167,7 +197,7 @@ func ParseModel(path string, doc []byte) (*Model, error) {
 		}
 		return nil, &ModelError{File: path, Err: err}
 	}
-	p := &modelParser{file: path, dir: filepath.Dir(path), m: &Model{Path: path}}
+	p := &modelParser{file: path, dir: filepath.Dir(path), m: &Model{Path: path}, lensOnly: o.LensOnly}
 	p.parse(root)
 	if len(p.errs) > 0 {
 		return nil, errors.Join(p.errs...)
@@ -180,6 +210,8 @@ type modelParser struct {
 	dir  string
 	m    *Model
 	errs []error
+	// lensOnly: see ParseModelOptions.LensOnly.
+	lensOnly bool
 }
 
 func (p *modelParser) errorf(line int, key, format string, a ...any) {
@@ -225,7 +257,7 @@ func (p *modelParser) parse(root *table) {
 	for i, t := range p.tableArray(root, "data") {
 		p.parseData(t, i)
 	}
-	if len(p.m.Data) == 0 {
+	if len(p.m.Data) == 0 && !p.lensOnly {
 		p.errorf(0, "[[data]]", "no dataset: add at least one [[data]] table with a file")
 	}
 	if v, ok := root.get("cosmology"); ok {
@@ -246,7 +278,7 @@ func (p *modelParser) parse(root *table) {
 	if len(p.m.Lenses) == 0 {
 		p.errorf(0, "[[lens]]", "no lens: add at least one [[lens]] table")
 	}
-	if len(p.m.Sources) == 0 {
+	if len(p.m.Sources) == 0 && !p.lensOnly {
 		p.errorf(0, "[[source]]", "no source: add at least one [[source]] table")
 	}
 	p.m.Fit = Settings{Method: "nested", Seed: 1}
@@ -359,7 +391,7 @@ func (p *modelParser) parseData(t *table, i int) {
 		if !filepath.IsAbs(file) {
 			file = filepath.Join(p.dir, file)
 		}
-		if _, err := os.Stat(file); err != nil {
+		if _, err := os.Stat(file); err != nil && !p.lensOnly {
 			p.errorf(line, where+" file", "data file %s: %v", file, errors.Unwrap(err))
 		}
 		d.File = file

@@ -2,11 +2,14 @@ package fit
 
 import (
 	"errors"
+	"math"
 	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
 	"testing"
+
+	"deflect/lensmodel"
 )
 
 // writeModel writes a model file and an (empty) data file beside it.
@@ -231,5 +234,80 @@ dy = -0.02`, 1)
 dx = 0.1`, 1)
 	if _, err := ParseModel(writeModel(t, bad), []byte(bad)); err == nil || !strings.Contains(err.Error(), "not both") {
 		t.Errorf("offset with dx: err = %v", err)
+	}
+}
+
+// TestLensOnlyModel: ReadLensModel needs only [[lens]] tables; [[data]] and
+// [[source]] may be missing, a data file that does not exist is accepted,
+// but every table present is still checked for unknown keys; free
+// parameters start at their start or the prior's centre (midpoint,
+// normal mean, geometric mean), and an NFW halo given by m200 and c gets
+// lensmodel's κ_s and r_s for the cosmology.
+func TestLensOnlyModel(t *testing.T) {
+	const doc = `[cosmology]
+z_lens = 0.3
+z_source = 1.5
+
+[[data]]
+file = "not-there.csv"
+
+[[lens]]
+kind = "nfw"
+name = "halo"
+x = {min = -1, max = 0.5}
+y = {prior = "normal", mean = 0.2, sd = 0.1}
+m200 = {prior = "log-uniform", min = 1e13, max = 1e15}
+c = 5
+
+[[lens]]
+kind = "shear"
+gamma = 0.05
+x = {same_as = "halo.x"}
+`
+	path := writeModel(t, doc)
+	if _, err := ReadModel(path); err == nil || !strings.Contains(err.Error(), "not-there.csv") || !strings.Contains(err.Error(), "no source") {
+		t.Errorf("ReadModel: %v; want the missing data file and source reported", err)
+	}
+	m, err := ReadLensModel(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(m.Lenses) != 2 || len(m.Sources) != 0 || len(m.Data) != 1 || m.Cosmology == nil {
+		t.Fatalf("lenses %d, sources %d, data %d, cosmology %v", len(m.Lenses), len(m.Sources), len(m.Data), m.Cosmology)
+	}
+	theta := m.Start()
+	want := []float64{-0.25, 0.2, 1e14} // midpoint, mean, √(1e13 × 1e15)
+	if len(theta) != len(want) {
+		t.Fatalf("start %v, want %v", theta, want)
+	}
+	for i := range want {
+		if math.Abs(theta[i]-want[i]) > 1e-12*math.Abs(want[i]) {
+			t.Errorf("start[%d] (%s) = %g, want %g", i, m.Free[i].Name, theta[i], want[i])
+		}
+	}
+	l, err := m.Lens(theta)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ks, rs := lensmodel.FlatLambdaCDM(70, 0.3).NFWFromM200(1e14, 5, 0.3, 1.5)
+	if n, ok := l[0].(lensmodel.NFW); !ok || n.KappaS != ks || n.Rs != rs || n.X != -0.25 || n.Y != 0.2 || n.Q != 1 {
+		t.Errorf("halo = %#v, want NFW with κ_s = %g, r_s = %g at (-0.25, 0.2)", l[0], ks, rs)
+	}
+	if s, ok := l[1].(lensmodel.Shear); !ok || s.X != -0.25 || s.Gamma != 0.05 {
+		t.Errorf("shear = %#v, want its centre tied to the halo's x", l[1])
+	}
+
+	for _, tc := range []struct{ name, doc, want string }{
+		{"no lens", "[cosmology]\nz_lens = 0.3\nz_source = 1\n", "no lens"},
+		{"data key", "[[data]]\nfile = \"x.csv\"\nlabl = \"a\"\n[[lens]]\nkind = \"point\"\ntheta_e = 1\n", `:3: [[data]] #1 labl: unknown key (did you mean "label"?)`},
+		{"source key", "[[source]]\nkind = \"point\"\nflux = 1\nxx = 0\n[[lens]]\nkind = \"point\"\ntheta_e = 1\n", `:4: source "point2" xx: unknown key`},
+		{"m200 without cosmology", "[[lens]]\nkind = \"nfw\"\nm200 = 1e14\nc = 4\n", "need a [cosmology]"},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			_, err := ParseModelOptions{LensOnly: true}.Parse("lens.toml", []byte(tc.doc))
+			if err == nil || !strings.Contains(err.Error(), tc.want) {
+				t.Errorf("error %v, want %q", err, tc.want)
+			}
+		})
 	}
 }
