@@ -41,9 +41,10 @@ func init() {
 		summary: "list the images of a point source behind a lens model, with μ, time delays and fluxes",
 		usage:   "MODEL --source X,Y [--flux MJY] [-o DIR] [--force] [--format png|pdf|svg] | --lens KIND:K=V,... [--zl Z --zs Z]",
 		help: `Finds every image of a point source at --source (arcsec, x east, y north)
-behind the lens of MODEL, a model file with a [cosmology] table and [[lens]]
-tables of plain numbers (the fit model file; free parameters are taken at
-their start values), or behind the components given by repeated --lens
+behind the lens of MODEL, the model file of deflect fit (only its [[lens]]
+tables and optional [cosmology] are needed; [[data]] files need not exist
+yet; free parameters are taken at their start, or without one at the
+centre of their prior), or behind the components given by repeated --lens
 flags, e.g. --lens 'sie:x=0,y=0,theta_e=1.2,q=0.8,pa=30' --lens
 'shear:gamma=0.05,angle=20'.
 
@@ -57,7 +58,8 @@ Lens kinds and parameters (arcsec, degrees east of north):
   shear     gamma, angle (0), x (0), y (0)
   sheet     kappa
 
-For nfw, gnfw and burkert q is the axis ratio of the potential, at least
+The full table with units and allowed ranges: deflect fit -h kinds. For
+nfw, gnfw and burkert q is the axis ratio of the potential, at least
 0.8165 (the limit of the elliptical-potential form).
 
 For each image: position, signed magnification μ (negative for saddle
@@ -114,25 +116,14 @@ critical curves. A non-empty DIR is refused without --force.`,
 					return err
 				}
 			case len(lenses) > 0:
-				pm = &predictModel{}
+				var cosmo *predictCosmo
 				if zl != 0 || zs != 0 {
-					c := &predictCosmo{zl: zl, zs: zs, c: lensmodel.FlatLambdaCDM(h0, om)}
+					cosmo = &predictCosmo{zl: zl, zs: zs, c: lensmodel.FlatLambdaCDM(h0, om)}
 					if !math.IsNaN(ode) {
-						c.c.Ode = ode
+						cosmo.c.Ode = ode
 					}
-					if err := c.check(); err != nil {
-						return usagef("%v", err)
-					}
-					pm.cosmo = c
 				}
-				for _, s := range lenses {
-					spec, err := predictParseLensFlag(s)
-					if err != nil {
-						return usagef("%v", err)
-					}
-					pm.specs = append(pm.specs, spec)
-				}
-				if err := pm.build(); err != nil {
+				if pm, err = predictFlagModel(lenses, cosmo); err != nil {
 					return usagef("%v", err)
 				}
 			default:

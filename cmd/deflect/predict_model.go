@@ -1,300 +1,165 @@
 package main
 
-// The model file read here is the subset of the fit model file (see the fit
-// issue's format) that predict needs: [cosmology] and [[lens]] tables with
-// plain-number parameters. The fit package will own the model file; predict
-// will then switch to its reader and this file will go.
+// predict reads its lens through the fit package: a model file with
+// fit.ReadLensModel, and --lens flags by writing them as [[lens]] tables of
+// an in-memory model file, so that both go through the one kinds table,
+// validation and builder (fit's kinds.go and build.go).
 
 import (
 	"errors"
 	"fmt"
 	"math"
-	"os"
 	"sort"
 	"strconv"
 	"strings"
 
-	"github.com/pelletier/go-toml/v2"
-
+	"deflect/fit"
 	"deflect/lensmodel"
 )
 
-// predictLensSpec is one [[lens]] table or --lens flag: a kind and its numbers.
+// predictLensSpec is one lens component as predict reports it: its kind,
+// name and the value of every parameter (free ones at their start).
 type predictLensSpec struct {
 	Kind   string             `json:"kind"`
 	Name   string             `json:"name,omitempty"`
 	Params map[string]float64 `json:"params"`
-	where  string             // "file:line" or "--lens" for messages
-	ties   map[string]predictTie
 }
 
-// predictCosmo is the [cosmology] table.
+// predictCosmo is the cosmology of the model.
 type predictCosmo struct {
 	c      lensmodel.Cosmology
 	zl, zs float64
 }
 
-// predictModel is a parsed model.
+// predictModel is the lens predict works with.
 type predictModel struct {
 	specs []predictLensSpec
 	lens  lensmodel.Lens
-	cosmo *predictCosmo // nil when the file has no [cosmology]
+	cosmo *predictCosmo // nil when the model has no cosmology
 }
 
-// predictLensKinds lists, per kind, the parameters it takes and their defaults;
-// NaN marks a required parameter.
-var predictLensKinds = map[string]map[string]float64{
-	"point":    {"x": 0, "y": 0, "theta_e": math.NaN()},
-	"sie":      {"x": 0, "y": 0, "theta_e": math.NaN(), "q": 1, "pa": 0, "core": 0},
-	"powerlaw": {"x": 0, "y": 0, "theta_e": math.NaN(), "q": 1, "pa": 0, "slope": 2},
-	// kappa_s and r_s, or m200 (M_sun) and c with the cosmology; see build.
-	"nfw":     {"x": 0, "y": 0, "kappa_s": math.NaN(), "r_s": math.NaN(), "m200": math.NaN(), "c": math.NaN(), "q": 1, "pa": 0},
-	"gnfw":    {"x": 0, "y": 0, "kappa_s": math.NaN(), "r_s": math.NaN(), "gamma": 1, "q": 1, "pa": 0},
-	"burkert": {"x": 0, "y": 0, "kappa_s": math.NaN(), "r_s": math.NaN(), "q": 1, "pa": 0},
-	"shear":   {"gamma": math.NaN(), "angle": 0, "x": 0, "y": 0},
-	"sheet":   {"kappa": math.NaN()},
-}
-
-var predictCosmologyKeys = []string{"z_lens", "z_source", "H0", "Om", "Ode"}
-
-// predictFitSections are the model-file sections of the fit command, which
-// predict reads past.
-var predictFitSections = map[string]bool{"sky": true, "data": true, "source": true, "fit": true}
-
-// readPredictModel reads and checks a model file.
+// readPredictModel reads the lens and cosmology of the model file at path.
 func readPredictModel(path string) (*predictModel, error) {
-	data, err := os.ReadFile(path)
+	m, err := fit.ReadLensModel(path)
 	if err != nil {
 		return nil, err
 	}
-	return parsePredictModel(path, data)
+	return predictFromFit(m, path)
 }
 
+// parsePredictModel is readPredictModel for the file contents data, named
+// name.
 func parsePredictModel(name string, data []byte) (*predictModel, error) {
-	var doc map[string]any
-	if err := toml.Unmarshal(data, &doc); err != nil {
-		var de *toml.DecodeError
-		if errors.As(err, &de) {
-			row, col := de.Position()
-			return nil, fmt.Errorf("%s:%d:%d: %v", name, row, col, de)
-		}
-		return nil, fmt.Errorf("%s: %v", name, err)
+	m, err := fit.ParseModelOptions{LensOnly: true}.Parse(name, data)
+	if err != nil {
+		return nil, err
 	}
-	lines := predictKeyLines(data)
-	at := func(path string) string {
-		if l, ok := lines[path]; ok {
-			return fmt.Sprintf("%s:%d", name, l)
-		}
-		return name
-	}
-	top := predictSortedKeys(doc)
+	return predictFromFit(m, name)
+}
+
+// predictFromFit builds the lens of m with every free parameter at its
+// starting value (its start, or the centre of its prior).
+func predictFromFit(m *fit.Model, where string) (*predictModel, error) {
 	pm := &predictModel{}
-	for _, k := range top {
-		switch {
-		case k == "cosmology", k == "lens", predictFitSections[k]:
-		default:
-			return nil, fmt.Errorf("%s: unknown section or key %q%s (want [cosmology] and [[lens]] tables)", at(k), k, predictSuggest(k, []string{"cosmology", "lens"}))
+	if c := m.Cosmology; c != nil {
+		pm.cosmo = &predictCosmo{c: lensmodel.Cosmology{H0: c.H0, Om: c.Om, Ode: c.Ode}, zl: c.ZLens, zs: c.ZSource}
+		if err := pm.cosmo.c.Validate(); err != nil {
+			return nil, fmt.Errorf("%s: [cosmology]: %w", where, err)
 		}
 	}
-	if v, ok := doc["cosmology"]; ok {
-		t, ok := v.(map[string]any)
-		if !ok {
-			return nil, fmt.Errorf("%s: cosmology: want a [cosmology] table", at("cosmology"))
+	l, err := m.Lens(m.Start())
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", where, err)
+	}
+	pm.lens = l
+	for _, c := range m.Lenses {
+		s := predictLensSpec{Kind: c.Kind, Name: c.Name, Params: map[string]float64{}}
+		for k, q := range c.Params {
+			// After fit's parse every parameter's Value is its fixed value,
+			// its start, or (tied) its target's start.
+			s.Params[k] = q.Value
 		}
-		c, err := predictParseCosmology(t, func(k string) string { return at("cosmology." + k) }, at("cosmology"))
-		if err != nil {
-			return nil, err
-		}
-		pm.cosmo = c
-	}
-	raw, ok := doc["lens"]
-	if !ok {
-		return nil, fmt.Errorf("%s: no [[lens]] tables", name)
-	}
-	tables, ok := raw.([]any)
-	if !ok {
-		return nil, fmt.Errorf("%s: lens: want [[lens]] tables", at("lens"))
-	}
-	for i, v := range tables {
-		t, ok := v.(map[string]any)
-		if !ok {
-			return nil, fmt.Errorf("%s: lens %d: want a table", at("lens"), i+1)
-		}
-		prefix := fmt.Sprintf("lens.%d", i)
-		spec, err := predictParseLensTable(t, i+1, func(k string) string {
-			if k == "" {
-				return at(prefix)
-			}
-			return at(prefix + "." + k)
-		})
-		if err != nil {
-			return nil, err
-		}
-		pm.specs = append(pm.specs, spec)
-	}
-	if err := predictResolveTies(pm.specs); err != nil {
-		return nil, err
-	}
-	if err := pm.build(); err != nil {
-		return nil, err
+		pm.specs = append(pm.specs, s)
 	}
 	return pm, nil
 }
 
-// predictNumber converts a TOML value to float64. A table (a free parameter of
-// the fit format) gives its start value.
-func predictNumber(v any) (float64, error) {
-	switch x := v.(type) {
-	case int64:
-		return float64(x), nil
-	case float64:
-		return x, nil
-	case map[string]any:
-		if s, ok := x["start"]; ok {
-			return predictNumber(s)
-		}
-		return 0, errors.New("is a free parameter without a start value; predict needs a number")
+// predictFlagModel builds the lens of --lens flags (each KIND:K=V,...), with
+// the cosmology cosmo (nil for none). Errors name the flag at fault.
+func predictFlagModel(flags []string, cosmo *predictCosmo) (*predictModel, error) {
+	var b strings.Builder
+	line := 1
+	label := map[int]string{} // the flag behind each line, for messages
+	emit := func(flag, format string, a ...any) {
+		fmt.Fprintf(&b, format+"\n", a...)
+		label[line] = flag
+		line++
 	}
-	return 0, fmt.Errorf("is %v, want a number", v)
-}
-
-func predictParseCosmology(t map[string]any, at func(string) string, where string) (*predictCosmo, error) {
-	vals := map[string]float64{}
-	for _, k := range predictSortedKeys(t) {
-		if !predictContains(predictCosmologyKeys, k) {
-			return nil, fmt.Errorf("%s: cosmology: unknown key %q%s (want %s)", at(k), k, predictSuggest(k, predictCosmologyKeys), strings.Join(predictCosmologyKeys, ", "))
-		}
-		x, err := predictNumber(t[k])
+	if cosmo != nil {
+		const f = "--zl, --zs, --H0, --Om, --Ode"
+		emit(f, "[cosmology]")
+		emit(f, "z_lens = %s", predictTOMLFloat(cosmo.zl))
+		emit(f, "z_source = %s", predictTOMLFloat(cosmo.zs))
+		emit(f, "H0 = %s", predictTOMLFloat(cosmo.c.H0))
+		emit(f, "Om = %s", predictTOMLFloat(cosmo.c.Om))
+		emit(f, "Ode = %s", predictTOMLFloat(cosmo.c.Ode))
+	}
+	for _, s := range flags {
+		kind, params, err := predictParseLensFlag(s)
 		if err != nil {
-			return nil, fmt.Errorf("%s: cosmology: %s %v", at(k), k, err)
+			return nil, err
 		}
-		vals[k] = x
-	}
-	for _, k := range []string{"z_lens", "z_source", "H0", "Om"} {
-		if _, ok := vals[k]; !ok {
-			return nil, fmt.Errorf("%s: cosmology: missing %s", where, k)
+		f := fmt.Sprintf("--lens %q", s)
+		emit(f, "[[lens]]")
+		emit(f, "kind = %q", kind)
+		for _, k := range predictSortedKeys(params) {
+			emit(f, "%s = %s", k, predictTOMLFloat(params[k]))
 		}
 	}
-	c := &predictCosmo{zl: vals["z_lens"], zs: vals["z_source"], c: lensmodel.FlatLambdaCDM(vals["H0"], vals["Om"])}
-	if ode, ok := vals["Ode"]; ok {
-		c.c.Ode = ode
+	m, err := fit.ParseModelOptions{LensOnly: true}.Parse("--lens", []byte(b.String()))
+	if err != nil {
+		return nil, predictFlagErrors(err, label)
 	}
-	if err := c.check(); err != nil {
-		return nil, fmt.Errorf("%s: %v", where, err)
-	}
-	return c, nil
+	return predictFromFit(m, "--lens")
 }
 
-func (c *predictCosmo) check() error {
-	if err := c.c.Validate(); err != nil {
-		return err
+// predictFlagErrors rewrites fit's errors about the in-memory model file of
+// the --lens flags to name the flag instead of a line.
+func predictFlagErrors(err error, label map[int]string) error {
+	var list []error
+	if j, ok := err.(interface{ Unwrap() []error }); ok {
+		list = j.Unwrap()
+	} else {
+		list = []error{err}
 	}
-	if !(c.zl > 0) || !(c.zs > c.zl) || math.IsInf(c.zs, 0) {
-		return fmt.Errorf("cosmology: z_lens = %v, z_source = %v, want 0 < z_lens < z_source", c.zl, c.zs)
-	}
-	return nil
-}
-
-func predictParseLensTable(t map[string]any, index int, at func(string) string) (predictLensSpec, error) {
-	spec := predictLensSpec{Params: map[string]float64{}, where: at("")}
-	kv, ok := t["kind"]
-	if !ok {
-		return spec, fmt.Errorf("%s: lens %d: missing kind (want one of %s)", at(""), index, predictKindList())
-	}
-	kind, ok := kv.(string)
-	if !ok {
-		return spec, fmt.Errorf("%s: lens %d: kind must be a string", at("kind"), index)
-	}
-	allowed, ok := predictLensKinds[kind]
-	if !ok {
-		return spec, fmt.Errorf("%s: lens %d: unknown kind %q%s (want one of %s)", at("kind"), index, kind, predictSuggest(kind, predictSortedKeys(predictLensKinds)), predictKindList())
-	}
-	spec.Kind = kind
-	for _, k := range predictSortedKeys(t) {
-		switch k {
-		case "kind":
-			continue
-		case "name":
-			s, ok := t[k].(string)
-			if !ok {
-				return spec, fmt.Errorf("%s: lens %d: name must be a string", at(k), index)
-			}
-			spec.Name = s
+	out := make([]error, 0, len(list))
+	for _, e := range list {
+		var me *fit.ModelError
+		if !errors.As(e, &me) {
+			out = append(out, e)
 			continue
 		}
-		if _, ok := allowed[k]; !ok {
-			return spec, fmt.Errorf("%s: lens %d (%s): unknown key %q%s (want %s)", at(k), index, kind, k, predictSuggest(k, predictSortedKeys(allowed)), strings.Join(predictSortedKeys(allowed), ", "))
+		where, ok := label[me.Line]
+		if !ok {
+			where = "--lens"
 		}
-		if tab, ok := t[k].(map[string]any); ok {
-			if to, ok := tab["same_as"]; ok {
-				ref, ok := to.(string)
-				if !ok {
-					return spec, fmt.Errorf("%s: lens %d (%s): %s: same_as must be a string like \"g1.x\"", at(k), index, kind, k)
-				}
-				if spec.ties == nil {
-					spec.ties = map[string]predictTie{}
-				}
-				spec.ties[k] = predictTie{ref: ref, where: at(k)}
-				continue
-			}
+		if me.Key != "" {
+			where += ": " + me.Key
 		}
-		x, err := predictNumber(t[k])
-		if err != nil {
-			return spec, fmt.Errorf("%s: lens %d (%s): %s %v", at(k), index, kind, k, err)
-		}
-		spec.Params[k] = x
+		out = append(out, fmt.Errorf("%s: %w", where, me.Err))
 	}
-	return spec, nil
+	return errors.Join(out...)
 }
 
-// predictTie is a parameter tied to another component's, same_as = "NAME.KEY".
-type predictTie struct {
-	ref   string
-	where string
-}
-
-// predictResolveTies copies tied parameters from the components they name,
-// following chains of ties.
-func predictResolveTies(specs []predictLensSpec) error {
-	byName := map[string]int{}
-	for i, s := range specs {
-		if s.Name != "" {
-			byName[s.Name] = i
-		}
-	}
-	for i := range specs {
-		for k, tie := range specs[i].ties {
-			ref := tie.ref
-			for hops := 0; ; hops++ {
-				name, key, ok := strings.Cut(ref, ".")
-				j, found := byName[name]
-				if !ok || !found {
-					return fmt.Errorf("%s: %s: same_as = %q names no lens component (want NAME.KEY with a named [[lens]])", tie.where, k, tie.ref)
-				}
-				if v, ok := specs[j].Params[key]; ok {
-					specs[i].Params[k] = v
-					break
-				}
-				next, ok := specs[j].ties[key]
-				if !ok || hops > len(specs) {
-					return fmt.Errorf("%s: %s: same_as = %q: %s has no number for %s", tie.where, k, tie.ref, name, key)
-				}
-				ref = next.ref
-			}
-		}
-	}
-	return nil
-}
-
-// predictParseLensFlag parses --lens 'kind:key=value,key=value'.
-func predictParseLensFlag(s string) (predictLensSpec, error) {
+// predictParseLensFlag parses --lens 'kind:key=value,key=value' into its
+// kind and numbers; the keys and values are checked by fit.
+func predictParseLensFlag(s string) (kind string, params map[string]float64, err error) {
 	kind, rest, _ := strings.Cut(s, ":")
 	kind = strings.TrimSpace(kind)
-	spec := predictLensSpec{Kind: kind, Params: map[string]float64{}, where: "--lens " + s}
-	allowed, ok := predictLensKinds[kind]
-	if !ok {
-		return spec, fmt.Errorf("--lens %q: unknown kind %q%s (want one of %s)", s, kind, predictSuggest(kind, predictSortedKeys(predictLensKinds)), predictKindList())
+	if !predictBareKey(kind) {
+		return "", nil, fmt.Errorf("--lens %q: want KIND:KEY=VALUE,... with a kind such as sie", s)
 	}
+	params = map[string]float64{}
 	for _, f := range strings.Split(rest, ",") {
 		f = strings.TrimSpace(f)
 		if f == "" {
@@ -302,147 +167,40 @@ func predictParseLensFlag(s string) (predictLensSpec, error) {
 		}
 		k, v, ok := strings.Cut(f, "=")
 		k = strings.TrimSpace(k)
-		if !ok {
-			return spec, fmt.Errorf("--lens %q: %q is not key=value", s, f)
+		if !ok || !predictBareKey(k) {
+			return "", nil, fmt.Errorf("--lens %q: %q is not key=value", s, f)
 		}
-		if _, ok := allowed[k]; !ok {
-			return spec, fmt.Errorf("--lens %q: unknown key %q%s for %s (want %s)", s, k, predictSuggest(k, predictSortedKeys(allowed)), kind, strings.Join(predictSortedKeys(allowed), ", "))
+		if _, dup := params[k]; dup {
+			return "", nil, fmt.Errorf("--lens %q: %s given twice", s, k)
 		}
 		x, err := strconv.ParseFloat(strings.TrimSpace(v), 64)
-		if err != nil {
-			return spec, fmt.Errorf("--lens %q: %s = %q is not a number", s, k, v)
+		if err != nil || math.IsNaN(x) || math.IsInf(x, 0) {
+			return "", nil, fmt.Errorf("--lens %q: %s = %q is not a finite number", s, k, v)
 		}
-		spec.Params[k] = x
+		params[k] = x
 	}
-	return spec, nil
+	return kind, params, nil
 }
 
-// build turns the specs into the lens, with the cosmology for NFW halos
-// given by mass and concentration.
-func (pm *predictModel) build() error {
-	pm.lens = pm.lens[:0]
-	for i, s := range pm.specs {
-		m, err := s.component(pm.cosmo)
-		if err != nil {
-			return fmt.Errorf("%s: lens %d (%s): %w", s.where, i+1, s.Kind, err)
-		}
-		if v, ok := m.(lensmodel.Validator); ok {
-			if err := v.Validate(); err != nil {
-				return fmt.Errorf("%s: lens %d: %w", s.where, i+1, err)
-			}
-		}
-		pm.lens = append(pm.lens, m)
+// predictBareKey reports whether s is a non-empty TOML bare key.
+func predictBareKey(s string) bool {
+	if s == "" {
+		return false
 	}
-	return nil
+	for _, r := range s {
+		if !(r >= 'a' && r <= 'z' || r >= 'A' && r <= 'Z' || r >= '0' && r <= '9' || r == '_' || r == '-') {
+			return false
+		}
+	}
+	return true
 }
 
-func (s predictLensSpec) component(cosmo *predictCosmo) (lensmodel.Mass, error) {
-	p := map[string]float64{}
-	var missing []string
-	for k, d := range predictLensKinds[s.Kind] {
-		v, ok := s.Params[k]
-		if !ok {
-			v = d
-		}
-		p[k] = v
-		if math.IsNaN(v) && !(s.Kind == "nfw" && (k == "kappa_s" || k == "r_s" || k == "m200" || k == "c")) {
-			missing = append(missing, k)
-		}
-	}
-	if len(missing) > 0 {
-		sort.Strings(missing)
-		return nil, fmt.Errorf("missing %s", strings.Join(missing, ", "))
-	}
-	switch s.Kind {
-	case "point":
-		return lensmodel.PointMass{X: p["x"], Y: p["y"], ThetaE: p["theta_e"]}, nil
-	case "sie":
-		return lensmodel.SIE{X: p["x"], Y: p["y"], ThetaE: p["theta_e"], Q: p["q"], PA: p["pa"], Core: p["core"]}, nil
-	case "powerlaw":
-		return lensmodel.PowerLaw{X: p["x"], Y: p["y"], ThetaE: p["theta_e"], Q: p["q"], PA: p["pa"], Slope: p["slope"]}, nil
-	case "nfw":
-		_, hasK := s.Params["kappa_s"]
-		_, hasR := s.Params["r_s"]
-		_, hasM := s.Params["m200"]
-		_, hasC := s.Params["c"]
-		switch {
-		case hasK && hasR && !hasM && !hasC:
-		case hasM && hasC && !hasK && !hasR:
-			if cosmo == nil {
-				return nil, errors.New("m200 and c need a [cosmology] table (or --zl and --zs)")
-			}
-			if !(p["m200"] > 0) || !(p["c"] > 0) {
-				return nil, fmt.Errorf("m200 = %v, c = %v, want both > 0", p["m200"], p["c"])
-			}
-			p["kappa_s"], p["r_s"] = cosmo.c.NFWFromM200(p["m200"], p["c"], cosmo.zl, cosmo.zs)
-		default:
-			return nil, errors.New("give either kappa_s and r_s, or m200 and c")
-		}
-		return lensmodel.NFW{X: p["x"], Y: p["y"], KappaS: p["kappa_s"], Rs: p["r_s"], Q: p["q"], PA: p["pa"]}, nil
-	case "gnfw":
-		return lensmodel.GNFW{X: p["x"], Y: p["y"], KappaS: p["kappa_s"], Rs: p["r_s"], Gamma: p["gamma"], Q: p["q"], PA: p["pa"]}, nil
-	case "burkert":
-		return lensmodel.Burkert{X: p["x"], Y: p["y"], KappaS: p["kappa_s"], Rs: p["r_s"], Q: p["q"], PA: p["pa"]}, nil
-	case "shear":
-		return lensmodel.Shear{Gamma: p["gamma"], Angle: p["angle"], X: p["x"], Y: p["y"]}, nil
-	case "sheet":
-		return lensmodel.Sheet{KappaExt: p["kappa"]}, nil
-	}
-	panic("deflect: unhandled lens kind " + s.Kind)
-}
-
-// predictKeyLines maps "section.key", "array.N.key", "section" and "array.N" to
-// their 1-based line in a TOML document of the simple form model files
-// take (one key per line; multi-line values are not indexed beyond their
-// first line).
-func predictKeyLines(data []byte) map[string]int {
-	out := map[string]int{}
-	counts := map[string]int{}
-	sec := ""
-	for i, line := range strings.Split(string(data), "\n") {
-		t := strings.TrimSpace(predictStripComment(line))
-		switch {
-		case strings.HasPrefix(t, "[["):
-			name := strings.TrimSpace(strings.TrimSuffix(strings.TrimPrefix(t, "[["), "]]"))
-			sec = fmt.Sprintf("%s.%d", name, counts[name])
-			counts[name]++
-			out[sec] = i + 1
-			if _, ok := out[name]; !ok {
-				out[name] = i + 1
-			}
-		case strings.HasPrefix(t, "["):
-			sec = strings.TrimSpace(strings.TrimSuffix(strings.TrimPrefix(t, "["), "]"))
-			out[sec] = i + 1
-		default:
-			k, _, ok := strings.Cut(t, "=")
-			if !ok {
-				continue
-			}
-			k = strings.Trim(strings.TrimSpace(k), `"'`)
-			path := k
-			if sec != "" {
-				path = sec + "." + k
-			}
-			if _, ok := out[path]; !ok {
-				out[path] = i + 1
-			}
-		}
-	}
-	return out
-}
-
-// predictStripComment removes a # comment outside quoted strings.
-func predictStripComment(s string) string {
-	var quote rune
-	for i, r := range s {
-		switch {
-		case quote != 0 && r == quote:
-			quote = 0
-		case quote == 0 && (r == '"' || r == '\''):
-			quote = r
-		case quote == 0 && r == '#':
-			return s[:i]
-		}
+// predictTOMLFloat formats a finite x as a TOML float that reads back
+// exactly.
+func predictTOMLFloat(x float64) string {
+	s := strconv.FormatFloat(x, 'g', -1, 64)
+	if !strings.ContainsAny(s, ".e") {
+		s += ".0"
 	}
 	return s
 }
@@ -454,52 +212,4 @@ func predictSortedKeys[V any](m map[string]V) []string {
 	}
 	sort.Strings(ks)
 	return ks
-}
-
-func predictContains(list []string, s string) bool {
-	for _, x := range list {
-		if x == s {
-			return true
-		}
-	}
-	return false
-}
-
-func predictKindList() string { return strings.Join(predictSortedKeys(predictLensKinds), ", ") }
-
-// predictSuggest returns `; did you mean "x"?` for the closest candidate within
-// edit distance 2, or "".
-func predictSuggest(s string, candidates []string) string {
-	best, bd := "", 3
-	for _, c := range candidates {
-		if d := predictEditDistance(strings.ToLower(s), strings.ToLower(c)); d < bd {
-			best, bd = c, d
-		}
-	}
-	if best == "" {
-		return ""
-	}
-	return fmt.Sprintf("; did you mean %q?", best)
-}
-
-// predictEditDistance is the Levenshtein distance between a and b.
-func predictEditDistance(a, b string) int {
-	ra, rb := []rune(a), []rune(b)
-	prev := make([]int, len(rb)+1)
-	cur := make([]int, len(rb)+1)
-	for j := range prev {
-		prev[j] = j
-	}
-	for i := 1; i <= len(ra); i++ {
-		cur[0] = i
-		for j := 1; j <= len(rb); j++ {
-			c := 1
-			if ra[i-1] == rb[j-1] {
-				c = 0
-			}
-			cur[j] = min(prev[j]+1, cur[j-1]+1, prev[j-1]+c)
-		}
-		prev, cur = cur, prev
-	}
-	return prev[len(rb)]
 }

@@ -144,21 +144,46 @@ r_s = 5
 // TestPredictNFWMass: an NFW halo given by M200 and c gets the κ_s and r_s
 // of Cosmology.NFWFromM200.
 func TestPredictNFWMass(t *testing.T) {
-	pm := &predictModel{cosmo: &predictCosmo{c: lensmodel.FlatLambdaCDM(70, 0.3), zl: 0.3, zs: 1.5}}
-	for _, s := range []string{"nfw:m200=1e14,c=5", "sie:theta_e=1"} {
-		spec, err := predictParseLensFlag(s)
-		if err != nil {
-			t.Fatal(err)
-		}
-		pm.specs = append(pm.specs, spec)
-	}
-	if err := pm.build(); err != nil {
+	cosmo := &predictCosmo{c: lensmodel.FlatLambdaCDM(70, 0.3), zl: 0.3, zs: 1.5}
+	pm, err := predictFlagModel([]string{"nfw:m200=1e14,c=5", "sie:theta_e=1"}, cosmo)
+	if err != nil {
 		t.Fatal(err)
 	}
-	ks, rs := pm.cosmo.c.NFWFromM200(1e14, 5, 0.3, 1.5)
+	ks, rs := cosmo.c.NFWFromM200(1e14, 5, 0.3, 1.5)
 	n, ok := pm.lens[0].(lensmodel.NFW)
 	if !ok || n.KappaS != ks || n.Rs != rs || n.Q != 1 {
 		t.Errorf("component %+v, want NFW with κ_s = %g, r_s = %g", pm.lens[0], ks, rs)
+	}
+	if pm.cosmo == nil || *pm.cosmo != *cosmo {
+		t.Errorf("cosmology %+v, want %+v", pm.cosmo, cosmo)
+	}
+}
+
+// TestPredictDefaultStart: a free parameter without start is taken at the
+// centre of its prior (fit's default start): θ_E uniform on [1, 2] gives
+// an SIS of θ_E = 1.5, whose Einstein radius is θ_E itself; a model file
+// whose data file does not exist yet and that has no source is accepted.
+func TestPredictDefaultStart(t *testing.T) {
+	dir := t.TempDir()
+	model := filepath.Join(dir, "m.toml")
+	const text = "[[data]]\nfile = \"later.csv\"\n[[lens]]\nkind = \"sie\"\ntheta_e = {min = 1, max = 2}\n"
+	if err := os.WriteFile(model, []byte(text), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(dir, "out")
+	if _, stderr, code := runPredict(t, model, "--source", "0.2,0", "-o", out); code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	var res predictResult
+	b, err := os.ReadFile(filepath.Join(out, "predict.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := json.Unmarshal(b, &res); err != nil {
+		t.Fatal(err)
+	}
+	if res.ThetaE == nil || math.Abs(*res.ThetaE-1.5) > 1e-9 || res.Lens[0].Params["theta_e"] != 1.5 {
+		t.Errorf("Einstein radius %v, theta_e %v; want 1.5 (midpoint of the prior)", res.ThetaE, res.Lens[0].Params["theta_e"])
 	}
 }
 
@@ -181,17 +206,20 @@ func TestPredictErrors(t *testing.T) {
 		{"no source", []string{"--lens", "sie:theta_e=1"}, 2, "--source"},
 		{"bad source", []string{"--lens", "sie:theta_e=1", "--source", "1;2"}, 2, "X,Y"},
 		{"no lens", []string{"--source", "0,0"}, 2, "no MODEL"},
-		{"unknown kind", []string{"--lens", "sis:theta_e=1", "--source", "0,0"}, 2, `did you mean "sie"`},
-		{"unknown flag key", []string{"--lens", "sie:thetae=1", "--source", "0,0"}, 2, `did you mean "theta_e"`},
-		{"missing parameter", []string{"--lens", "sie:q=0.5", "--source", "0,0"}, 2, "missing theta_e"},
-		{"bad q", []string{"--lens", "sie:theta_e=1,q=1.5", "--source", "0,0"}, 2, "axis ratio"},
-		{"unknown key in file", []string{write("a.toml", good+"\n[[lens]]\nkind = \"sie\"\nthetae = 1.0\n"), "--source", "0,0"}, 1, `a.toml:9: lens 1 (sie): unknown key "thetae"; did you mean "theta_e"?`},
-		{"unknown section", []string{write("b.toml", good+"[lense]\nkind = 1\n"), "--source", "0,0"}, 1, `b.toml:6: unknown section or key "lense"`},
-		{"cosmology key", []string{write("c.toml", "[cosmology]\nz_lens = 0.5\nzsource = 2\n"), "--source", "0,0"}, 1, `c.toml:3: cosmology: unknown key "zsource"`},
-		{"free without start", []string{write("d.toml", good+"[[lens]]\nkind = \"sie\"\ntheta_e = {min = 1, max = 2}\n"), "--source", "0,0"}, 1, "d.toml:8: lens 1 (sie): theta_e is a free parameter without a start value"},
+		{"unknown kind", []string{"--lens", "sis:theta_e=1", "--source", "0,0"}, 2, `--lens "sis:theta_e=1": [[lens]] kind: unknown lens kind "sis" (did you mean "sie"?)`},
+		{"unknown flag key", []string{"--lens", "sie:thetae=1", "--source", "0,0"}, 2, `--lens "sie:thetae=1": lens "sie1" thetae: unknown key (did you mean "theta_e"?)`},
+		{"flag value", []string{"--lens", "sie:theta_e=inf", "--source", "0,0"}, 2, "not a finite number"},
+		{"flag redshifts", []string{"--lens", "sie:theta_e=1", "--zl", "2", "--zs", "1", "--source", "0,0"}, 2, "--zl, --zs, --H0, --Om, --Ode: [cosmology]: expected 0 < z_lens < z_source"},
+		{"missing parameter", []string{"--lens", "sie:q=0.5", "--source", "0,0"}, 2, `--lens "sie:q=0.5": lens "sie1": missing required parameter theta_e`},
+		{"bad q", []string{"--lens", "sie:theta_e=1,q=1.5", "--source", "0,0"}, 2, `lens "sie1" q: 1.5 is outside the allowed range (0, 1]`},
+		{"unknown key in file", []string{write("a.toml", good+"\n[[lens]]\nkind = \"sie\"\nthetae = 1.0\n"), "--source", "0,0"}, 1, `a.toml:9: lens "sie1" thetae: unknown key (did you mean "theta_e"?)`},
+		{"unknown section", []string{write("b.toml", good+"[lense]\nkind = 1\n"), "--source", "0,0"}, 1, `b.toml:6: lense: unknown key (did you mean "lens"?)`},
+		{"cosmology key", []string{write("c.toml", "[cosmology]\nz_lens = 0.5\nzsource = 2\n"), "--source", "0,0"}, 1, `c.toml:3: [cosmology] zsource: unknown key (did you mean "z_source"?)`},
+		{"start outside prior", []string{write("d.toml", good+"[[lens]]\nkind = \"sie\"\ntheta_e = {start = 3, min = 1, max = 2}\n"), "--source", "0,0"}, 1, `d.toml:8: lens "sie1" theta_e start: start 3 lies outside the prior [1, 2]`},
+		{"no lens in file", []string{write("i.toml", good), "--source", "0,0"}, 1, "i.toml: [[lens]]: no lens"},
 		{"toml syntax", []string{write("e.toml", "[cosmology\n"), "--source", "0,0"}, 1, "e.toml:1"},
 		{"redshift order", []string{write("f.toml", "[cosmology]\nz_lens = 2\nz_source = 1\nH0 = 70\nOm = 0.3\n[[lens]]\nkind = \"point\"\ntheta_e = 1\n"), "--source", "0,0"}, 1, "z_lens < z_source"},
-		{"tie to nothing", []string{write("h.toml", good+"[[lens]]\nkind = \"sie\"\ntheta_e = 1\nx = {same_as = \"g9.x\"}\n"), "--source", "0,0"}, 1, `h.toml:9: x: same_as = "g9.x" names no lens component`},
+		{"tie to nothing", []string{write("h.toml", good+"[[lens]]\nkind = \"sie\"\ntheta_e = 1\nx = {same_as = \"g9.x\"}\n"), "--source", "0,0"}, 1, `h.toml:9: sie1.x: same_as names unknown parameter "g9.x"`},
 		{"nfw needs cosmology", []string{"--lens", "nfw:m200=1e13,c=4", "--source", "0,0"}, 2, "cosmology"},
 		{"file and flags", []string{write("g.toml", good), "--lens", "sie:theta_e=1", "--source", "0,0"}, 2, "not both"},
 	}
@@ -346,9 +374,9 @@ x = 0.2
 
 	for _, tc := range []struct{ lens, want string }{
 		{"gnfw:kappa_s=0.5,r_s=1,gamma=2", "gamma"},
-		{"gnfw:kappa_s=0.5", "missing r_s"},
-		{"burkert:kappa_s=0.5,r_s=1,q=0.7", "axis ratio"},
-		{"burkert:kappa_s=0.5,r_s=1,gamma=1", `unknown key "gamma"`},
+		{"gnfw:kappa_s=0.5", "missing required parameter r_s"},
+		{"burkert:kappa_s=0.5,r_s=1,q=0.7", "q: 0.7 is outside the allowed range [0.8165, 1]"},
+		{"burkert:kappa_s=0.5,r_s=1,gamma=1", `lens "burkert1" gamma: unknown key`},
 	} {
 		if _, stderr, code := runPredict(t, "--lens", tc.lens, "--source", "0,0"); code != 2 || !strings.Contains(stderr, tc.want) {
 			t.Errorf("--lens %s: exit %d, stderr %q; want exit 2 and %q", tc.lens, code, stderr, tc.want)
