@@ -146,7 +146,11 @@ func predictFlagErrors(err error, label map[int]string) error {
 		if me.Key != "" {
 			where += ": " + me.Key
 		}
-		out = append(out, fmt.Errorf("%s: %w", where, me.Err))
+		hint := ""
+		if strings.Contains(me.Err.Error(), "need a [cosmology]") {
+			hint = " (with --lens: give --zl and --zs)"
+		}
+		out = append(out, fmt.Errorf("%s: %w%s", where, me.Err, hint))
 	}
 	return errors.Join(out...)
 }

@@ -220,7 +220,7 @@ func TestPredictErrors(t *testing.T) {
 		{"toml syntax", []string{write("e.toml", "[cosmology\n"), "--source", "0,0"}, 1, "e.toml:1"},
 		{"redshift order", []string{write("f.toml", "[cosmology]\nz_lens = 2\nz_source = 1\nH0 = 70\nOm = 0.3\n[[lens]]\nkind = \"point\"\ntheta_e = 1\n"), "--source", "0,0"}, 1, "z_lens < z_source"},
 		{"tie to nothing", []string{write("h.toml", good+"[[lens]]\nkind = \"sie\"\ntheta_e = 1\nx = {same_as = \"g9.x\"}\n"), "--source", "0,0"}, 1, `h.toml:9: sie1.x: same_as names unknown parameter "g9.x"`},
-		{"nfw needs cosmology", []string{"--lens", "nfw:m200=1e13,c=4", "--source", "0,0"}, 2, "cosmology"},
+		{"nfw needs cosmology", []string{"--lens", "nfw:m200=1e13,c=4", "--source", "0,0"}, 2, "need a [cosmology] table with z_lens and z_source (with --lens: give --zl and --zs)"},
 		{"file and flags", []string{write("g.toml", good), "--lens", "sie:theta_e=1", "--source", "0,0"}, 2, "not both"},
 	}
 	for _, tc := range tests {
