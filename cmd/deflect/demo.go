@@ -86,6 +86,9 @@ func runDemo(env *runEnv, dir string, force, quick bool) error {
 	var imgOut bytes.Buffer
 	imgArgs := append([]string{"image"}, tables...)
 	imgArgs = append(imgArgs, "-o", filepath.Join(dir, "image"), "--pixel", "0.04", "--size", "128")
+	if force {
+		imgArgs = append(imgArgs, "--force")
+	}
 	if rc := runMain(imgArgs, &imgOut, &errb); rc != 0 {
 		return fmt.Errorf("image failed: %s", errb.String())
 	}
@@ -144,7 +147,7 @@ func runDemo(env *runEnv, dir string, force, quick bool) error {
 	if err != nil {
 		return err
 	}
-	if err := writeProbe(pdir, res); err != nil {
+	if err := writeProbe(pdir, filepath.Join(pdir, "probe.png"), "png", force, res); err != nil {
 		return err
 	}
 	step("probe: %s", filepath.Join(pdir, "probe.json"))

@@ -19,11 +19,11 @@ import (
 
 // probeOptions are the flags of "deflect probe".
 type probeOptions struct {
-	at, models, weighting, out string
-	radius, robust             float64
-	null, evals                int
-	seed                       uint64
-	force, noModelTest         bool
+	at, models, weighting, out, format string
+	radius, robust                     float64
+	null, evals                        int
+	seed                               uint64
+	force, noModelTest                 bool
 }
 
 func init() {
@@ -31,7 +31,7 @@ func init() {
 	register(&command{
 		name:    "probe",
 		summary: "test whether a faint feature (e.g. a central image) is real, in the visibilities",
-		usage:   "MODEL_OR_FITDIR [--at X,Y] [--radius R] [--null N] [--weighting natural|uniform|briggs] [--models A.toml,B.toml] [-o DIR] [--seed N] [--force]",
+		usage:   "MODEL_OR_FITDIR [--at X,Y] [--radius R] [--null N] [--weighting natural|uniform|briggs] [--models A.toml,B.toml] [-o DIR] [--format png|pdf|svg] [--seed N] [--force]",
 		help: `Probes the sky position --at (default: the lens centre, the centre of its
 first halo component — nfw, gnfw or burkert — or else of its first
 component) within --radius arcsec, on top of the model: MODEL, a model file
@@ -70,8 +70,10 @@ false-alarm probability (with the spot attributed to the other images'
 sidelobes when they make at least half of it); "inconclusive" otherwise.
 It is always given with its numbers.
 
-Writes DIR/probe.json (every number), DIR/probe.png (the panel: residual
-cut-out, direct and split fluxes, null distribution) and prints the report.`,
+Writes DIR/probe.json (every number), DIR/probe.png (or .pdf, .svg with
+--format; the panel: residual cut-out, direct and split fluxes, null
+distribution) and prints the report. A non-empty DIR, and any file in it, is
+overwritten only with --force.`,
 		setFlags: func(fs *flag.FlagSet) {
 			fs.StringVar(&o.at, "at", "", "probed position `X,Y` in arcsec east and north of the phase centre")
 			fs.Float64Var(&o.radius, "radius", 0, "search radius in `ARCSEC` (default: 3 sky pixels)")
@@ -81,6 +83,7 @@ cut-out, direct and split fluxes, null distribution) and prints the report.`,
 			fs.StringVar(&o.models, "models", "", "model files or fit directories `A,B` without and with a central image, for the model test")
 			fs.IntVar(&o.evals, "evals", 400, "likelihood calls per optimiser phase in the model test")
 			fs.StringVar(&o.out, "o", "probe", "output `DIR`ectory")
+			fs.StringVar(&o.format, "format", "png", "figure format: png, pdf or svg")
 			fs.Uint64Var(&o.seed, "seed", 1, "random seed of the null simulations")
 			fs.BoolVar(&o.force, "force", false, "write into a non-empty output directory")
 			fs.BoolVar(&o.noModelTest, "no-model-test", false, "skip the model test (two fits) when --models is not given")
@@ -92,6 +95,11 @@ cut-out, direct and split fluxes, null distribution) and prints the report.`,
 			m, theta, err := probeBase(args[0], o.seed)
 			if err != nil {
 				return err
+			}
+			switch o.format {
+			case "png", "pdf", "svg":
+			default:
+				return usagef("--format %q: want png, pdf or svg", o.format)
 			}
 			w, err := uv.ParseWeighting(o.weighting)
 			if err != nil {
@@ -151,11 +159,12 @@ cut-out, direct and split fluxes, null distribution) and prints the report.`,
 			if err != nil {
 				return err
 			}
-			if err := writeProbe(o.out, res); err != nil {
+			fig := filepath.Join(o.out, "probe."+o.format)
+			if err := writeProbe(o.out, fig, o.format, o.force, res); err != nil {
 				return err
 			}
 			fmt.Fprint(env.stdout, res.Report())
-			fmt.Fprintf(env.stdout, "wrote %s and %s\n", filepath.Join(o.out, "probe.json"), filepath.Join(o.out, "probe.png"))
+			fmt.Fprintf(env.stdout, "wrote %s and %s\n", filepath.Join(o.out, "probe.json"), fig)
 			return nil
 		},
 	})
@@ -242,13 +251,14 @@ func probeModelTest(a, b string, evals int, seed uint64) (*probe.ModelTest, erro
 	return probe.CompareModels(fits[0], fits[1]), nil
 }
 
-// writeProbe writes probe.json and probe.png into dir.
-func writeProbe(dir string, res *probe.Result) error {
+// writeProbe writes dir/probe.json and the panel fig in format ("png",
+// "pdf" or "svg"), replacing existing files only when force is true.
+func writeProbe(dir, fig, format string, force bool, res *probe.Result) error {
 	b, err := json.MarshalIndent(res, "", "  ")
 	if err != nil {
 		return err
 	}
-	if err := atomicfile.WriteBytes(filepath.Join(dir, "probe.json"), true, append(b, '\n')); err != nil {
+	if err := atomicfile.WriteBytes(filepath.Join(dir, "probe.json"), force, append(b, '\n')); err != nil {
 		return err
 	}
 	pr := plots.Probe{
@@ -269,11 +279,11 @@ func writeProbe(dir string, res *probe.Result) error {
 	for _, p := range res.Null.Peaks {
 		pr.Null = append(pr.Null, p*1e3)
 	}
-	fig, err := plots.ProbeFigure(pr)
+	f, err := plots.ProbeFigure(pr)
 	if err != nil {
 		return fmt.Errorf("probe figure: %w", err)
 	}
-	return plots.Save(fig, 0, 0, filepath.Join(dir, "probe.png"), "png", true)
+	return plots.Save(f, 0, 0, fig, format, force)
 }
 
 // shortSplit abbreviates a split's name for the figure's axis.

@@ -78,6 +78,18 @@ func TestProbeCommand(t *testing.T) {
 	if rc := runMain(args, &so, &se); rc != 1 {
 		t.Errorf("second run into a non-empty directory: rc %d, want 1", rc)
 	}
+	// --force rewrites the directory, here with an SVG panel.
+	se.Reset()
+	svgArgs := append(append([]string{}, args...), "--force", "--format", "svg", "--no-model-test")
+	if rc := runMain(svgArgs, &so, &se); rc != 0 {
+		t.Fatalf("probe --force --format svg rc %d: %s", rc, se.String())
+	}
+	if b, err := os.ReadFile(filepath.Join(out, "probe.svg")); err != nil || !bytes.Contains(b, []byte("<svg")) {
+		t.Errorf("probe.svg: %v, not an SVG document", err)
+	}
+	if rc := runMain([]string{"probe", model, "--format", "gif", "-o", filepath.Join(dir, "p2")}, &so, &se); rc != 2 {
+		t.Errorf("bad --format: rc %d, want 2", rc)
+	}
 	if rc := runMain([]string{"probe", model, "--at", "x"}, &so, &se); rc != 2 {
 		t.Errorf("bad --at: rc %d, want 2", rc)
 	}

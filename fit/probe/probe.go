@@ -218,12 +218,16 @@ func (r *Result) verdict(realSNR, noneSNR, maxFA float64) {
 	if n.Exceed == 0 {
 		faText = fmt.Sprintf("false-alarm probability < %.3g (95%% bound 3/N; none of %d null simulations as bright)", n.UpperLimit95, n.N)
 	}
+	imgP := fmt.Sprintf("p = %.3g", n.ImageFalseAlarm)
+	if n.ImageExceed == 0 {
+		imgP = fmt.Sprintf("p < %.3g", n.UpperLimit95)
+	}
 	r.Reasons = append(r.Reasons,
 		fmt.Sprintf("direct test: %.3g ± %.2g mJy at (%.3f, %.3f)\", %.1fσ in the visibilities (%.1fσ at the probed position itself)",
 			d.Flux.Value*1e3, d.Flux.Err*1e3, d.X, d.Y, d.SNR, d.FixedSNR),
 		"null test: residual dirty-image peak "+fmt.Sprintf("%.3g mJy/beam (%.1fσ); ", n.Observed*1e3, n.Observed/r.ImageNoise)+faText,
-		fmt.Sprintf("dirty image (no model subtracted): peak %.3g mJy/beam (%.1fσ) at (%.3f, %.3f)\", reached by %d of %d null simulations (p = %.3g); sidelobes of the other images there: %.3g mJy/beam = %.1fσ = %.2g of the model's dirty peak",
-			n.ImagePeak*1e3, n.ImagePeak/r.ImageNoise, n.ImageX, n.ImageY, n.ImageExceed, n.N, n.ImageFalseAlarm, n.BaseAt*1e3, r.SidelobeSigma, r.Sidelobe))
+		fmt.Sprintf("dirty image (no model subtracted): peak %.3g mJy/beam (%.1fσ) at (%.3f, %.3f)\", reached by %d of %d null simulations (%s); sidelobes of the other images there: %.3g mJy/beam = %.1fσ = %.2g of the model's dirty peak",
+			n.ImagePeak*1e3, n.ImagePeak/r.ImageNoise, n.ImageX, n.ImageY, n.ImageExceed, n.N, imgP, n.BaseAt*1e3, r.SidelobeSigma, r.Sidelobe))
 	nSplit, okSplit, posSplit := 0, 0, 0
 	for _, f := range r.Splits {
 		for _, s := range f.Splits {
@@ -253,15 +257,24 @@ func (r *Result) verdict(realSNR, noneSNR, maxFA float64) {
 					p.Model, p.Note, p.Flux*1e3))
 				continue
 			}
-			dev := ""
+			dev, errOnly := "", ""
+			flux := fmt.Sprintf("%.3g ± %.2g mJy", p.Flux*1e3, p.FluxErr*1e3)
+			point := fmt.Sprintf("%.3g ± %.2g mJy", p.PointFlux*1e3, p.PointFluxErr*1e3)
+			if p.Samples < 2 {
+				// No posterior draws: the model's uncertainty is unknown,
+				// not zero.
+				flux = fmt.Sprintf("%.3g mJy (uncertainty unavailable: no posterior draws nor Laplace covariance)", p.Flux*1e3)
+				point = fmt.Sprintf("%.3g mJy", p.PointFlux*1e3)
+				errOnly = " of the measurement alone"
+			}
 			if s := math.Hypot(p.PointFluxErr, d.Flux.Err); s > 0 {
-				dev = fmt.Sprintf(", measured within %.1fσ", math.Abs(d.Flux.Value-p.PointFlux)/s)
+				dev = fmt.Sprintf(", measured within %.1fσ%s", math.Abs(d.Flux.Value-p.PointFlux)/s, errOnly)
 				if p.Model == mt.B.Name {
-					modelText = fmt.Sprintf(", predicted by %s within %.1fσ", p.Model, math.Abs(d.Flux.Value-p.PointFlux)/s)
+					modelText = fmt.Sprintf(", predicted by %s within %.1fσ%s", p.Model, math.Abs(d.Flux.Value-p.PointFlux)/s, errOnly)
 				}
 			}
-			r.Reasons = append(r.Reasons, fmt.Sprintf("prediction of %s: central image at (%.3f, %.3f)\", μ = %.3g, %.3g ± %.2g mJy inside the radius, of which a point fit at the measured position recovers %.3g ± %.2g mJy%s",
-				p.Model, p.X, p.Y, p.Mu, p.Flux*1e3, p.FluxErr*1e3, p.PointFlux*1e3, p.PointFluxErr*1e3, dev))
+			r.Reasons = append(r.Reasons, fmt.Sprintf("prediction of %s: central image at (%.3f, %.3f)\", μ = %.3g, %s inside the radius, of which a point fit at the measured position recovers %s%s",
+				p.Model, p.X, p.Y, p.Mu, flux, point, dev))
 		}
 	} else {
 		r.Reasons = append(r.Reasons, r.ModelNote)
