@@ -267,6 +267,11 @@ func writeProbe(dir, fig, format string, force bool, res *probe.Result) error {
 		Direct:   plots.Flux{Value: res.Direct.Flux.Value * 1e3, Err: res.Direct.Flux.Err * 1e3},
 		Observed: res.Null.Observed * 1e3,
 	}
+	if res.Null.Exceed > 0 {
+		// The report's estimate; with no exceedance the figure writes
+		// its own bound (plots.EmpiricalFalseAlarm).
+		pr.FalseAlarm = res.Null.FalseAlarm
+	}
 	for _, f := range res.Splits {
 		for _, s := range f.Splits {
 			if s.Rows == 0 {
@@ -290,16 +295,21 @@ func writeProbe(dir, fig, format string, force bool, res *probe.Result) error {
 func shortSplit(name string) string {
 	switch name {
 	case "first half":
-		return "1st half"
+		return "early"
 	case "second half":
-		return "2nd half"
+		return "late"
 	case "short baselines":
 		return "short"
 	case "long baselines":
 		return "long"
 	}
-	if len(name) > 8 {
-		return name[len(name)-8:]
+	// A dataset label: its last "-"-separated part ("array-A" → "A"),
+	// at most 6 characters, so that neighbouring labels do not overlap.
+	if i := strings.LastIndex(name, "-"); i >= 0 && i < len(name)-1 {
+		name = name[i+1:]
+	}
+	if r := []rune(name); len(r) > 6 {
+		return string(r[len(r)-6:])
 	}
 	return name
 }
