@@ -35,13 +35,17 @@ type Probe struct {
 	// SplitLabels (optional) name them on the axis.
 	Splits      []Flux
 	SplitLabels []string
-	// Null are values of the statistic where no source is expected, mJy;
-	// Observed is the value compared with them (usually Direct.Value).
+	// Null are values of the statistic where no source is expected, in
+	// NullUnit; Observed is the value compared with them.
 	Null     []float64
 	Observed float64
+	// NullUnit is the unit of Null and Observed; empty means "mJy".
+	NullUnit string
 	// FalseAlarm is the probability of a null value at least as large as
-	// Observed. When ≤ 0 it is computed from Null by EmpiricalFalseAlarm.
-	FalseAlarm float64
+	// Observed, or with FalseAlarmUpper an upper bound on it. When ≤ 0 it
+	// is computed from Null by EmpiricalFalseAlarm.
+	FalseAlarm      float64
+	FalseAlarmUpper bool
 }
 
 // EmpiricalFalseAlarm returns the permutation-test p-value
@@ -96,6 +100,11 @@ func ProbeFigure(pr Probe) (*Figure, error) {
 	if pr.SplitLabels != nil && len(pr.SplitLabels) != len(pr.Splits) {
 		return nil, fmt.Errorf("plots: probe: %d split labels for %d splits", len(pr.SplitLabels), len(pr.Splits))
 	}
+	for k, f := range pr.Splits {
+		if !(f.Err > 0) || math.IsInf(f.Err, 0) || math.IsNaN(f.Value) || math.IsInf(f.Value, 0) {
+			return nil, fmt.Errorf("plots: probe: split %d flux %g ± %g mJy, want a finite value and error > 0", k, f.Value, f.Err)
+		}
+	}
 	for k, v := range pr.Null {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
 			return nil, fmt.Errorf("plots: probe: null value %d is %g", k, v)
@@ -138,10 +147,10 @@ func ProbeFigure(pr Probe) (*Figure, error) {
 	}
 	fp.Add(zeroLine())
 	if len(pr.Splits) > 0 {
-		m, err := WeightedMean(pr.Splits)
-		if err != nil {
-			return nil, err
-		}
+		// The splits partition the same data in several ways, so their
+		// weighted mean would count each visibility more than once; the
+		// reference band is the test on all the data.
+		m := pr.Direct
 		x0, x1 := 0.5, float64(len(pr.Splits))+0.5
 		band, err := plotter.NewPolygon(plotter.XYs{{X: x0, Y: m.Value - m.Err}, {X: x1, Y: m.Value - m.Err}, {X: x1, Y: m.Value + m.Err}, {X: x0, Y: m.Value + m.Err}})
 		if err != nil {
@@ -152,7 +161,7 @@ func ProbeFigure(pr Probe) (*Figure, error) {
 		band.Color = premultiplied(c)
 		band.LineStyle.Width = 0
 		fp.Add(band)
-		fp.Legend.Add("splits' mean "+fmtPM(m.Value, m.Err)+" mJy", band)
+		fp.Legend.Add("all data "+fmtPM(m.Value, m.Err)+" mJy", band)
 	}
 	if err := addErrPts(fp, pts, qualitative[0], ""); err != nil {
 		return nil, err
@@ -173,7 +182,11 @@ func ProbeFigure(pr Probe) (*Figure, error) {
 	fp.Y.Min, fp.Y.Max = ymin-0.1*pad, ymax+pad // room for the legend
 
 	// Null distribution.
-	np := newPlot("statistic (mJy)", "null draws")
+	unit := pr.NullUnit
+	if unit == "" {
+		unit = "mJy"
+	}
+	np := newPlot("statistic ("+unit+")", "null draws")
 	nb := max(10, min(40, int(math.Sqrt(float64(len(pr.Null))))))
 	vals := make(plotter.Values, len(pr.Null))
 	copy(vals, pr.Null)
@@ -186,9 +199,13 @@ func ProbeFigure(pr Probe) (*Figure, error) {
 	np.Add(h)
 	np.Add(vline(pr.Observed, draw.LineStyle{Color: qualitative[1], Width: lineWidth}))
 	p, exceed := pr.FalseAlarm, 0
-	lines := []string{fmt.Sprintf("observed %s mJy", fmtG(pr.Observed))}
+	lines := []string{fmt.Sprintf("observed %s %s", fmtG(pr.Observed), unit)}
 	if p > 0 {
-		lines = append(lines, fmt.Sprintf("false-alarm p = %s", fmtP(p)))
+		rel := "="
+		if pr.FalseAlarmUpper {
+			rel = "<"
+		}
+		lines = append(lines, fmt.Sprintf("false-alarm p %s %s", rel, fmtP(p)))
 	} else {
 		p, exceed = EmpiricalFalseAlarm(pr.Null, pr.Observed)
 		rel := "="

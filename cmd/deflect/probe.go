@@ -266,11 +266,14 @@ func writeProbe(dir, fig, format string, force bool, res *probe.Result) error {
 		At:       plots.Point{X: res.Direct.X, Y: res.Direct.Y},
 		Direct:   plots.Flux{Value: res.Direct.Flux.Value * 1e3, Err: res.Direct.Flux.Err * 1e3},
 		Observed: res.Null.Observed * 1e3,
+		NullUnit: "mJy/beam",
+		// The report's numbers: the estimate k/N, or its 95% bound 3/N
+		// when no null draw is as bright.
+		FalseAlarm:      res.Null.FalseAlarm,
+		FalseAlarmUpper: res.Null.Exceed == 0,
 	}
-	if res.Null.Exceed > 0 {
-		// The report's estimate; with no exceedance the figure writes
-		// its own bound (plots.EmpiricalFalseAlarm).
-		pr.FalseAlarm = res.Null.FalseAlarm
+	if res.Null.Exceed == 0 {
+		pr.FalseAlarm = res.Null.UpperLimit95
 	}
 	for _, f := range res.Splits {
 		for _, s := range f.Splits {
