@@ -2,6 +2,7 @@ package lensmodel
 
 import (
 	"bytes"
+	"deflect/internal/pyref"
 	"encoding/csv"
 	"math"
 	"os"
@@ -75,23 +76,7 @@ func TestCosmologyAstropyTable(t *testing.T) {
 	if testing.Short() {
 		t.Skip("runs python3 with astropy")
 	}
-	var py string
-	cands := []string{"/usr/bin/python3"}
-	if p, err := exec.LookPath("python3"); err == nil {
-		cands = append(cands, p)
-	}
-	for _, p := range cands {
-		if exec.Command(p, "-c", "import astropy.cosmology").Run() == nil {
-			py = p
-			break
-		}
-	}
-	if py == "" {
-		if os.Getenv("DEFLECT_REQUIRE_ASTROPY") == "1" {
-			t.Fatal("no python3 that imports astropy (DEFLECT_REQUIRE_ASTROPY=1); install python3-astropy")
-		}
-		t.Skip("no python3 that imports astropy; install python3-astropy to rerun gen_astropy.py")
-	}
+	py := pyref.Python(t, "astropy.cosmology")
 	cmd := exec.Command(py, "gen_astropy.py")
 	cmd.Dir = filepath.Join("..", "testdata", "cosmology")
 	var stderr bytes.Buffer

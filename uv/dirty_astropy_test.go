@@ -2,10 +2,10 @@ package uv
 
 import (
 	"bytes"
+	"deflect/internal/pyref"
 	"fmt"
 	"math"
 	"math/rand/v2"
-	"os"
 	"os/exec"
 	"path/filepath"
 	"strconv"
@@ -18,20 +18,7 @@ import (
 // DEFLECT_REQUIRE_ASTROPY=1).
 func astropyPython(t *testing.T) string {
 	t.Helper()
-	cands := []string{"/usr/bin/python3"}
-	if p, err := exec.LookPath("python3"); err == nil {
-		cands = append(cands, p)
-	}
-	for _, p := range cands {
-		if exec.Command(p, "-c", "import astropy.wcs, astropy.io.fits").Run() == nil {
-			return p
-		}
-	}
-	if os.Getenv("DEFLECT_REQUIRE_ASTROPY") == "1" {
-		t.Fatal("no python3 that imports astropy (DEFLECT_REQUIRE_ASTROPY=1); install python3-astropy")
-	}
-	t.Skip("no python3 that imports astropy; install python3-astropy to run this check")
-	return ""
+	return pyref.Python(t, "astropy.wcs", "astropy.io.fits")
 }
 
 // astropyPixels returns astropy.wcs's 0-based pixel coordinates of the sky

@@ -2,7 +2,7 @@ package uv
 
 import (
 	"bytes"
-	"os"
+	"deflect/internal/pyref"
 	"os/exec"
 	"path/filepath"
 	"strconv"
@@ -14,20 +14,7 @@ import (
 // (fails it when DEFLECT_REQUIRE_ASTROPY=1).
 func tablePython(t *testing.T) string {
 	t.Helper()
-	cands := []string{"/usr/bin/python3"}
-	if p, err := exec.LookPath("python3"); err == nil {
-		cands = append(cands, p)
-	}
-	for _, py := range cands {
-		if exec.Command(py, "-c", "import astropy.io.fits, numpy").Run() == nil {
-			return py
-		}
-	}
-	if os.Getenv("DEFLECT_REQUIRE_ASTROPY") == "1" {
-		t.Fatal("no python3 that imports astropy (DEFLECT_REQUIRE_ASTROPY=1); install python3-astropy")
-	}
-	t.Skip("no python3 that imports astropy; install python3-astropy to run this check")
-	return ""
+	return pyref.Python(t, "astropy.io.fits", "numpy")
 }
 
 func runPython(t *testing.T, py, script string, args ...string) string {
