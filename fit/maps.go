@@ -3,6 +3,7 @@ package fit
 import (
 	"errors"
 	"fmt"
+	"io"
 	"math"
 	"path/filepath"
 	"strings"
@@ -80,8 +81,12 @@ type SourcePlane struct {
 	// Brightness is the surface brightness of the extended components at
 	// the reference frequency in Jy/arcsec², FITS order.
 	Brightness []float64
-	Caustics   []lensmodel.Polyline
-	Critical   []lensmodel.Polyline
+	// Sigma is the 1σ uncertainty of a pixelated source's brightness in
+	// Jy/arcsec², FITS order on Grid; nil for a parametric source or when
+	// the inversion gives none.
+	Sigma    []float64
+	Caustics []lensmodel.Polyline
+	Critical []lensmodel.Polyline
 }
 
 // SourcePlaneOf evaluates the source of ev on a 128² grid covering its
@@ -127,9 +132,19 @@ func SourcePlaneOf(ev *Evaluation) (*SourcePlane, error) {
 		}
 		sp.Grid = uv.Grid{N: nx, Pixel: p, X0: pg.X[0] + float64(nx-1-nx/2)*p, Y0: pg.Y[0] + float64(nx/2)*p}
 		sp.Brightness = make([]float64, nx*nx)
+		sig := ev.Pixels.Sigma
+		if len(sig) != len(ev.Pixels.Source) {
+			sig = nil
+		}
+		if sig != nil {
+			sp.Sigma = make([]float64, nx*nx)
+		}
 		for j := range nx {
 			for i := range nx {
 				sp.Brightness[j*nx+i] = ev.Pixels.Source[j*nx+(nx-1-i)]
+				if sig != nil {
+					sp.Sigma[j*nx+i] = sig[j*nx+(nx-1-i)]
+				}
 			}
 		}
 		return sp, nil
@@ -171,11 +186,154 @@ func fileLabel(s string) string {
 	}, s)
 }
 
-// writeMaps writes the FITS images and PNG figures of the best fit and
+// maxVisRows bounds the rows of a table read for its visibility figure;
+// larger tables are thinned to every k-th unflagged row.
+const maxVisRows = 1 << 20
+
+// visibilityRows reads the table of dataset i and predicts the best-fit
+// model of ev at its (u, v): each unflagged row takes the model image of
+// the frequency group holding its frequency (flux scale and offsets
+// applied, primary beam in the prediction). Weights are divided by the
+// noise scale squared, so Σ w |d − V|² is the likelihood's χ². Tables over
+// maxVisRows unflagged rows keep every k-th one; k is returned (1: all).
+func (l *Likelihood) visibilityRows(ev *Evaluation, i int) (plots.Visibilities, int, error) {
+	dd, de := l.Datasets[i], ev.Datasets[i]
+	var vis plots.Visibilities
+	if len(dd.Groups) == 0 || len(de.Groups) != len(dd.Groups) {
+		return vis, 0, errors.New("no model images per frequency group")
+	}
+	k := max(1, (dd.Visibilities+maxVisRows-1)/maxVisRows)
+	r, err := uv.OpenTable(dd.Data.File, dd.Data.readOptions(uv.ReadOptions{}))
+	if err != nil {
+		return vis, 0, err
+	}
+	defer r.Close()
+	ng := len(dd.Groups)
+	gu, gv := make([][]float64, ng), make([][]float64, ng)
+	var row []int // kept row's group
+	w2 := 1 / (de.NoiseScale * de.NoiseScale)
+	seen := 0
+	for {
+		c := new(uv.Dataset)
+		err := r.Next(c)
+		if errors.Is(err, io.EOF) {
+			break
+		}
+		if err != nil {
+			return vis, 0, err
+		}
+		for j := range c.Len() {
+			if c.Flagged(j) {
+				continue
+			}
+			seen++
+			if (seen-1)%k != 0 {
+				continue
+			}
+			g := groupOf(dd.Groups, c.FreqAt(j))
+			gu[g], gv[g] = append(gu[g], c.U[j]), append(gv[g], c.V[j])
+			row = append(row, g)
+			vis.U, vis.V = append(vis.U, c.U[j]), append(vis.V, c.V[j])
+			vis.Re, vis.Im = append(vis.Re, c.Re[j]), append(vis.Im, c.Im[j])
+			vis.Weight = append(vis.Weight, c.Weight[j]*w2)
+		}
+	}
+	pred := make([][]complex128, ng)
+	for g, c := range dd.Groups {
+		if len(gu[g]) == 0 {
+			continue
+		}
+		p, err := uv.NewPredictor(l.Grid, c.PrimaryBeam(), gu[g], gv[g], 1e-7)
+		if err != nil {
+			return vis, 0, err
+		}
+		pred[g] = p.Predict(nil, de.Groups[g].Model)
+	}
+	vis.ModelRe, vis.ModelIm = make([]float64, len(row)), make([]float64, len(row))
+	next := make([]int, ng)
+	for j, g := range row {
+		v := pred[g][next[g]]
+		next[g]++
+		vis.ModelRe[j], vis.ModelIm[j] = real(v), imag(v)
+	}
+	return vis, k, nil
+}
+
+// groupOf returns the index of the frequency group whose row range holds
+// nu, else the one of nearest mean frequency.
+func groupOf(groups []*uv.Compressed, nu float64) int {
+	best, dist := 0, math.Inf(1)
+	for g, c := range groups {
+		if lo, hi := c.FreqRange(); nu >= lo && nu <= hi {
+			return g
+		}
+		if d := math.Abs(c.Freq() - nu); d < dist {
+			best, dist = g, d
+		}
+	}
+	return best
+}
+
+// magnificationMap is the signed magnification of the lens of ev on the
+// fit's grid, FITS order.
+func (l *Likelihood) magnificationMap(ev *Evaluation) plots.SkyImage {
+	n := l.Grid.Len()
+	x, y, mu := make([]float64, n), make([]float64, n), make([]float64, n)
+	for k := range n {
+		x[k], y[k] = l.Grid.Centre(k)
+	}
+	ev.Lens.MagnificationPoints(mu, x, y)
+	return plotImage(l.Grid, mu)
+}
+
+// chainOf converts an ensemble chain [step][walker][dim] to the figure's
+// [walker][step][dim] layout (sharing the position slices).
+func chainOf(chain [][][]float64) [][][]float64 {
+	if len(chain) == 0 {
+		return nil
+	}
+	out := make([][][]float64, len(chain[0]))
+	for w := range out {
+		out[w] = make([][]float64, len(chain))
+		for t := range chain {
+			out[w][t] = chain[t][w]
+		}
+	}
+	return out
+}
+
+// figureSaver saves the figures of a run in its format, recording in the
+// run's notes the figures that could not be drawn.
+type figureSaver struct {
+	dir, format string
+	r           *Result
+	files       []string
+}
+
+// save writes fig as stem.FORMAT; a drawing error ferr becomes a note
+// "no WHAT: …", a write error is returned.
+func (s *figureSaver) save(stem, what string, fig *plots.Figure, ferr error) error {
+	if ferr != nil {
+		s.r.Notes = append(s.r.Notes, "no "+what+": "+ferr.Error())
+		return nil
+	}
+	name := stem + "." + s.format
+	if err := plots.Save(fig, 0, 0, filepath.Join(s.dir, name), s.format, true); err != nil {
+		return err
+	}
+	s.files = append(s.files, name)
+	return nil
+}
+
+// writeMaps writes the FITS images and the figures of the best fit and
 // returns the names written.
 func writeMaps(dir string, r *Result) ([]string, error) {
 	l, ev := r.Like, r.BestEval
-	var files []string
+	format := r.post.format
+	if format == "" {
+		format = "png"
+	}
+	fs := &figureSaver{dir: dir, format: format, r: r}
 	sp, spErr := SourcePlaneOf(ev)
 	for i := range l.Datasets {
 		mp := l.Maps(ev, i)
@@ -203,9 +361,9 @@ func writeMaps(dir string, r *Result) ([]string, error) {
 			}
 			name := fmt.Sprintf("%s-%s.fits", base, im.name)
 			if err := uv.WriteFITSImage(filepath.Join(dir, name), true, &uv.SkyImage{Grid: l.Grid, Meta: m, Data: im.data}); err != nil {
-				return files, err
+				return fs.files, err
 			}
-			files = append(files, name)
+			fs.files = append(fs.files, name)
 		}
 		di := plots.DirtyImages{Data: plotImage(l.Grid, mp.Data), Model: plotImage(l.Grid, mp.ModelDirty),
 			Residual: plotImage(l.Grid, mp.Residual), Sigma: mp.Sigma}
@@ -215,15 +373,28 @@ func writeMaps(dir string, r *Result) ([]string, error) {
 		if spErr == nil {
 			di.Critical = plotLines(sp.Critical, mp.DX, mp.DY)
 		}
-		if fig, err := plots.DirtyFigure(di); err == nil {
-			name := base + "-dirty.png"
-			if err := plots.Save(fig, 0, 0, filepath.Join(dir, name), "", true); err != nil {
-				return files, err
-			}
-			files = append(files, name)
-		} else {
-			r.Notes = append(r.Notes, fmt.Sprintf("dataset %q: no dirty-image figure: %v", mp.Label, err))
+		fig, err := plots.DirtyFigure(di)
+		if err := fs.save(base+"-dirty", fmt.Sprintf("dataset %q dirty-image figure", mp.Label), fig, err); err != nil {
+			return fs.files, err
 		}
+		vis, k, err := l.visibilityRows(ev, i)
+		if err == nil {
+			fig, err = plots.VisibilityFigure(vis)
+		}
+		if err == nil && k > 1 {
+			r.Notes = append(r.Notes, fmt.Sprintf("dataset %q: the visibility figure shows every %d-th unflagged row (%d of %d)", mp.Label, k, len(vis.U), l.Datasets[i].Visibilities))
+		}
+		if err := fs.save(base+"-vis", fmt.Sprintf("dataset %q visibility figure", mp.Label), fig, err); err != nil {
+			return fs.files, err
+		}
+	}
+	mm := plots.MagnificationMap{Mu: l.magnificationMap(ev)}
+	if spErr == nil {
+		mm.Critical = plotLines(sp.Critical, 0, 0)
+	}
+	fig, err := plots.MagnificationFigure(mm)
+	if err := fs.save("magnification", "magnification figure", fig, err); err != nil {
+		return fs.files, err
 	}
 	if spErr != nil {
 		r.Notes = append(r.Notes, "no source-plane map: "+spErr.Error())
@@ -236,38 +407,45 @@ func writeMaps(dir string, r *Result) ([]string, error) {
 		name := "source-plane.fits"
 		m := uv.ImageMeta{BUnit: "JY/PIXEL", Object: "source plane (offsets from the phase centre, unlensed)", Freq: r.RefFreq}
 		if err := uv.WriteFITSImage(filepath.Join(dir, name), true, &uv.SkyImage{Grid: sp.Grid, Meta: m, Data: jyPix}); err != nil {
-			return files, err
+			return fs.files, err
 		}
-		files = append(files, name)
-		fig, err := plots.SourceFigure(plots.SourceImage{Image: plotImage(sp.Grid, sp.Brightness), Unit: "mJy/arcsec²", Scale: 1e3,
-			Caustics: plotLines(sp.Caustics, 0, 0)})
-		if err == nil {
-			if err := plots.Save(fig, 0, 0, filepath.Join(dir, "source-plane.png"), "", true); err != nil {
-				return files, err
-			}
-			files = append(files, "source-plane.png")
-		} else {
-			r.Notes = append(r.Notes, "no source-plane figure: "+err.Error())
+		fs.files = append(fs.files, name)
+		si := plots.SourceImage{Image: plotImage(sp.Grid, sp.Brightness), Unit: "mJy/arcsec²", Scale: 1e3,
+			Caustics: plotLines(sp.Caustics, 0, 0)}
+		if sp.Sigma != nil {
+			sig := plotImage(sp.Grid, sp.Sigma)
+			si.Sigma = &sig
+		}
+		fig, err := plots.SourceFigure(si)
+		if err := fs.save("source-plane", "source-plane figure", fig, err); err != nil {
+			return fs.files, err
 		}
 	}
-	if n := len(r.Model.Free); n >= 2 && n <= 20 && len(r.post.samples) > 10 {
-		names := make([]string, n)
-		for i, q := range r.Model.Free {
-			names[i] = q.Name
-			if u := paramUnit(r.Model, q); u != "" {
-				names[i] += " (" + u + ")"
-			}
+	n := len(r.Model.Free)
+	names := make([]string, n)
+	for i, q := range r.Model.Free {
+		names[i] = q.Name
+		if u := paramUnit(r.Model, q); u != "" {
+			names[i] += " (" + u + ")"
 		}
+	}
+	if n >= 2 && n <= 20 && len(r.post.samples) > 10 {
 		fig, err := plots.CornerFigure(plots.Posterior{Names: names, Samples: r.post.samples, Weights: r.post.weights,
 			Marker: r.Best, MarkerLabel: "best fit"})
-		if err == nil {
-			if err := plots.Save(fig, 0, 0, filepath.Join(dir, "corner.png"), "", true); err != nil {
-				return files, err
-			}
-			files = append(files, "corner.png")
-		} else {
-			r.Notes = append(r.Notes, "no corner plot: "+err.Error())
+		if err := fs.save("corner", "corner plot", fig, err); err != nil {
+			return fs.files, err
 		}
 	}
-	return files, nil
+	if ch := chainOf(r.post.chain); ch != nil && n >= 1 {
+		c := plots.Chain{Names: names, Samples: ch}
+		fig, err := plots.TraceFigure(c)
+		if err := fs.save("trace", "trace figure", fig, err); err != nil {
+			return fs.files, err
+		}
+		fig, err = plots.AutocorrFigure(c, 0)
+		if err := fs.save("autocorr", "autocorrelation figure", fig, err); err != nil {
+			return fs.files, err
+		}
+	}
+	return fs.files, nil
 }

@@ -13,6 +13,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"deflect/internal/atomicfile"
+	"deflect/plots"
 )
 
 // RunOptions are the settings of Run. The zero value of every field is the
@@ -48,8 +49,11 @@ type RunOptions struct {
 	// DerivedSamples is the number of posterior samples the derived
 	// quantities are computed from; zero means 200, negative none.
 	DerivedSamples int
-	// NoMaps skips the FITS and PNG maps.
+	// NoMaps skips the FITS maps and the figures.
 	NoMaps bool
+	// Format is the format of every figure: "png" (the default when
+	// empty), "pdf" or "svg".
+	Format string
 }
 
 // CheckpointFile is the name of the checkpoint in a run's output directory.
@@ -77,6 +81,10 @@ func Run(ctx context.Context, m *Model, opt RunOptions) (*Result, error) {
 	case "optimize", "mcmc", "nested":
 	default:
 		return nil, fmt.Errorf("fit: method %q: want optimize, mcmc or nested", method)
+	}
+	format, err := plots.Format("", opt.Format)
+	if err != nil {
+		return nil, fmt.Errorf("fit: figure format %q: want png, pdf or svg", opt.Format)
 	}
 	seed := m.Fit.Seed
 	if opt.SeedSet {
@@ -125,7 +133,7 @@ func Run(ctx context.Context, m *Model, opt RunOptions) (*Result, error) {
 			return nil, err
 		}
 		res.Status, res.Evaluations = r.Status.String(), r.Evaluations
-		post = posterior{samples: r.Samples, loglike: r.SampleLogLike, best: r.Best}
+		post = posterior{samples: r.Samples, loglike: r.SampleLogLike, best: r.Best, chain: r.Chain}
 		res.MCMC = &MCMCInfo{Walkers: r.Walkers, Steps: r.Steps, Acceptance: r.Acceptance, Tau: r.Tau,
 			TauReliable: r.TauReliable, BurnIn: r.BurnIn, Thin: r.Thin}
 		if r.Status == NotConverged {
@@ -142,6 +150,7 @@ func Run(ctx context.Context, m *Model, opt RunOptions) (*Result, error) {
 		res.Evidence = &Evidence{LogZ: r.LogZ, LogZErr: r.LogZErr, H: r.H, Live: r.Live, Iterations: r.Iterations,
 			EffectiveSamples: r.EffectiveSamples()}
 	}
+	post.format = format
 	sampled := time.Now()
 	res.Timing = Timing{Load: loaded.Sub(start).Seconds(), Sample: sampled.Sub(loaded).Seconds()}
 	if res.Status == Interrupted.String() {
@@ -193,6 +202,11 @@ type posterior struct {
 	loglike []float64
 	weights []float64
 	best    []float64
+	// chain is the ensemble's whole chain, [step][walker][dim] (mcmc
+	// only), for the trace and autocorrelation figures.
+	chain [][][]float64
+	// format is the figure format of the run ("png", "pdf" or "svg").
+	format string
 }
 
 // laplacePosterior draws the Laplace approximation about the optimum.
