@@ -184,6 +184,10 @@ type ParseModelOptions struct {
 	// except that data files need not exist (they are not read, and a model
 	// file may be used for predictions before its data arrive).
 	LensOnly bool
+	// NoData accepts a model file without [[data]] tables (a model to
+	// simulate before anything is observed); lenses and sources are
+	// required as by ParseModel.
+	NoData bool
 }
 
 // Parse validates the model file contents doc, named path, as ParseModel
@@ -197,7 +201,7 @@ func (o ParseModelOptions) Parse(path string, doc []byte) (*Model, error) {
 		}
 		return nil, &ModelError{File: path, Err: err}
 	}
-	p := &modelParser{file: path, dir: filepath.Dir(path), m: &Model{Path: path}, lensOnly: o.LensOnly}
+	p := &modelParser{file: path, dir: filepath.Dir(path), m: &Model{Path: path}, lensOnly: o.LensOnly, noData: o.NoData}
 	p.parse(root)
 	if len(p.errs) > 0 {
 		return nil, errors.Join(p.errs...)
@@ -212,6 +216,8 @@ type modelParser struct {
 	errs []error
 	// lensOnly: see ParseModelOptions.LensOnly.
 	lensOnly bool
+	// noData: see ParseModelOptions.NoData.
+	noData bool
 }
 
 func (p *modelParser) errorf(line int, key, format string, a ...any) {
@@ -257,7 +263,7 @@ func (p *modelParser) parse(root *table) {
 	for i, t := range p.tableArray(root, "data") {
 		p.parseData(t, i)
 	}
-	if len(p.m.Data) == 0 && !p.lensOnly {
+	if len(p.m.Data) == 0 && !p.lensOnly && !p.noData {
 		p.errorf(0, "[[data]]", "no dataset: add at least one [[data]] table with a file")
 	}
 	if v, ok := root.get("cosmology"); ok {

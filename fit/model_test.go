@@ -311,3 +311,27 @@ x = {same_as = "halo.x"}
 		})
 	}
 }
+
+func TestNoDataModel(t *testing.T) {
+	doc := `[[lens]]
+kind = "sie"
+theta_e = 1.0
+[[source]]
+kind = "sersic"
+flux = 1.0
+r_eff = 0.1
+`
+	if _, err := ParseModel("sim.toml", []byte(doc)); err == nil {
+		t.Error("ParseModel accepted a model without [[data]]")
+	}
+	m, err := ParseModelOptions{NoData: true}.Parse("sim.toml", []byte(doc))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(m.Data) != 0 || len(m.Sources) != 1 {
+		t.Errorf("got %d datasets, %d sources", len(m.Data), len(m.Sources))
+	}
+	if _, err := (ParseModelOptions{NoData: true}).Parse("sim.toml", []byte("[[lens]]\nkind = \"sie\"\ntheta_e = 1.0\n")); err == nil {
+		t.Error("NoData accepted a model without a source")
+	}
+}

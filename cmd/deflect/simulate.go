@@ -1,7 +1,6 @@
 package main
 
 import (
-	"bytes"
 	"flag"
 	"fmt"
 	"math/rand/v2"
@@ -177,35 +176,11 @@ func simulateInto(m *fit.Model, d *uv.Dataset, seed uint64, noiseless bool) erro
 }
 
 // simulateModel reads the model file at path. A model without [[data]]
-// tables (nothing observed yet) is accepted: it is validated with a
-// placeholder dataset, which the simulation does not use.
+// tables (nothing observed yet) is accepted.
 func simulateModel(path string) (*fit.Model, error) {
 	doc, err := os.ReadFile(path)
 	if err != nil {
 		return nil, err
 	}
-	if bytes.Contains(doc, []byte("[[data]]")) {
-		return fit.ReadModel(path)
-	}
-	tmp, err := os.CreateTemp("", "deflect-simulate-*.csv")
-	if err != nil {
-		return nil, err
-	}
-	defer os.Remove(tmp.Name())
-	if _, err := tmp.WriteString("u,v,re,im,weight\n1,1,0,0,1\n"); err != nil {
-		tmp.Close()
-		return nil, err
-	}
-	if err := tmp.Close(); err != nil {
-		return nil, err
-	}
-	// Appended after the file's own tables, so that its line numbers in
-	// error messages stay right.
-	extra := fmt.Sprintf("\n[[data]]\nfile = %q\nlabel = \"placeholder\"\n", tmp.Name())
-	m, err := fit.ParseModel(path, append(doc, extra...))
-	if err != nil {
-		return nil, err
-	}
-	m.Data = nil
-	return m, nil
+	return fit.ParseModelOptions{NoData: true}.Parse(path, doc)
 }

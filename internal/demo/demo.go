@@ -90,7 +90,7 @@ func Write(dir string) ([]string, error) {
 			return nil, err
 		}
 		p := filepath.Join(dir, "data", arr.Name+".csv")
-		// A placeholder first, so that the truth model validates.
+		// Written before the truth model is read, since it names these files.
 		if err := uv.WriteTableFile(p, true, d); err != nil {
 			return nil, err
 		}
