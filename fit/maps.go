@@ -195,14 +195,18 @@ const maxVisRows = 1 << 20
 // the frequency group holding its frequency (flux scale and offsets
 // applied, primary beam in the prediction). Weights are divided by the
 // noise scale squared, so Σ w |d − V|² is the likelihood's χ². Tables over
-// maxVisRows unflagged rows keep every k-th one; k is returned (1: all).
-func (l *Likelihood) visibilityRows(ev *Evaluation, i int) (plots.Visibilities, int, error) {
+// maxRows unflagged rows (at least 1) keep every k-th one, k =
+// ⌈rows/maxRows⌉, starting with the first; k is returned (1: all).
+func (l *Likelihood) visibilityRows(ev *Evaluation, i, maxRows int) (plots.Visibilities, int, error) {
 	dd, de := l.Datasets[i], ev.Datasets[i]
 	var vis plots.Visibilities
 	if len(dd.Groups) == 0 || len(de.Groups) != len(dd.Groups) {
 		return vis, 0, errors.New("no model images per frequency group")
 	}
-	k := max(1, (dd.Visibilities+maxVisRows-1)/maxVisRows)
+	if maxRows < 1 {
+		panic("fit: visibilityRows with maxRows < 1")
+	}
+	k := max(1, (dd.Visibilities+maxRows-1)/maxRows)
 	r, err := uv.OpenTable(dd.Data.File, dd.Data.readOptions(uv.ReadOptions{}))
 	if err != nil {
 		return vis, 0, err
@@ -274,16 +278,21 @@ func groupOf(groups []*uv.Compressed, nu float64) int {
 	return best
 }
 
-// magnificationMap is the signed magnification of the lens of ev on the
-// fit's grid, FITS order.
+// magnificationMap is the signed magnification of the lens of ev over the
+// fit's field, FITS order, on a grid of at least 256² pixels (the fit's
+// own grid when finer) so the critical curves are resolved.
 func (l *Likelihood) magnificationMap(ev *Evaluation) plots.SkyImage {
-	n := l.Grid.Len()
+	g := l.Grid
+	if g.N < 256 {
+		g = uv.Grid{N: 256, Pixel: l.Grid.Pixel * float64(l.Grid.N) / 256, X0: l.Grid.X0, Y0: l.Grid.Y0}
+	}
+	n := g.Len()
 	x, y, mu := make([]float64, n), make([]float64, n), make([]float64, n)
 	for k := range n {
-		x[k], y[k] = l.Grid.Centre(k)
+		x[k], y[k] = g.Centre(k)
 	}
 	ev.Lens.MagnificationPoints(mu, x, y)
-	return plotImage(l.Grid, mu)
+	return plotImage(g, mu)
 }
 
 // chainOf converts an ensemble chain [step][walker][dim] to the figure's
@@ -377,7 +386,7 @@ func writeMaps(dir string, r *Result) ([]string, error) {
 		if err := fs.save(base+"-dirty", fmt.Sprintf("dataset %q dirty-image figure", mp.Label), fig, err); err != nil {
 			return fs.files, err
 		}
-		vis, k, err := l.visibilityRows(ev, i)
+		vis, k, err := l.visibilityRows(ev, i, maxVisRows)
 		if err == nil {
 			fig, err = plots.VisibilityFigure(vis)
 		}

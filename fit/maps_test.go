@@ -58,7 +58,7 @@ func TestRunFiguresMCMC(t *testing.T) {
 		}
 	}
 	// Expected sizes: the figures drawn again from the same inputs.
-	vis, k, err := r.Like.visibilityRows(r.BestEval, 0)
+	vis, k, err := r.Like.visibilityRows(r.BestEval, 0, maxVisRows)
 	if err != nil || k != 1 {
 		t.Fatalf("visibility rows: k = %d, %v", k, err)
 	}
@@ -94,7 +94,7 @@ func TestVisibilityRowsChi2(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	vis, k, err := l.visibilityRows(ev, 0)
+	vis, k, err := l.visibilityRows(ev, 0, maxVisRows)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -143,5 +143,38 @@ func TestRunFigureFormatSVG(t *testing.T) {
 	}
 	if _, err := Run(context.Background(), m, RunOptions{Method: "optimize", Format: "gif"}); err == nil || !strings.Contains(err.Error(), "gif") {
 		t.Errorf("Format gif: err = %v", err)
+	}
+}
+
+// TestVisibilityRowsThinned caps the rows: every k-th row is kept, the
+// first included, and its model is the full table's model at that row.
+func TestVisibilityRowsThinned(t *testing.T) {
+	m, dir := newTiny(t)
+	l, err := NewLikelihood(m, LikelihoodOptions{CacheDir: filepath.Join(dir, "cache")})
+	if err != nil {
+		t.Fatal(err)
+	}
+	ev, err := l.Evaluate(m.Start())
+	if err != nil {
+		t.Fatal(err)
+	}
+	all, _, err := l.visibilityRows(ev, 0, maxVisRows)
+	if err != nil {
+		t.Fatal(err)
+	}
+	n := len(all.U)
+	limit := n / 3
+	sub, k, err := l.visibilityRows(ev, 0, limit)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if want := (n + limit - 1) / limit; k != want || len(sub.U) != (n+k-1)/k {
+		t.Fatalf("cap %d of %d rows: k = %d (want %d), %d rows kept (want %d)", limit, n, k, want, len(sub.U), (n+k-1)/k)
+	}
+	for j := range sub.U {
+		a := j * k
+		if sub.U[j] != all.U[a] || sub.Re[j] != all.Re[a] || math.Abs(sub.ModelRe[j]-all.ModelRe[a]) > 1e-6*math.Abs(all.ModelRe[0]) {
+			t.Fatalf("kept row %d is not row %d of the table", j, a)
+		}
 	}
 }
