@@ -178,3 +178,46 @@ func TestVisibilityRowsThinned(t *testing.T) {
 		}
 	}
 }
+
+// TestSourcePlaneSigma checks that a pixelated source's σ map reaches the
+// source plane in the same orientation as its brightness (east left:
+// node i of a row is drawn at column N−1−i): with σ set equal to the
+// reconstruction, the two maps must agree pixel for pixel.
+func TestSourcePlaneSigma(t *testing.T) {
+	dir := t.TempDir()
+	writeSimDoc(t, dir, tinyModel, gridOf(32, 0.08), tinySim)
+	mp := filepath.Join(dir, "pixels.toml")
+	writeFile(t, mp, pixelModel)
+	m, err := ReadModel(mp)
+	if err != nil {
+		t.Fatal(err)
+	}
+	l, err := NewLikelihood(m, LikelihoodOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	ev, err := l.Evaluate([]float64{0.7})
+	if err != nil {
+		t.Fatal(err)
+	}
+	sp, err := SourcePlaneOf(ev)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if ev.Pixels.Sigma == nil && sp.Sigma != nil {
+		t.Errorf("σ map without an inversion σ")
+	}
+	ev.Pixels.Sigma = append([]float64(nil), ev.Pixels.Source...)
+	sp, err = SourcePlaneOf(ev)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(sp.Sigma) != len(sp.Brightness) {
+		t.Fatalf("σ map of %d pixels, brightness %d", len(sp.Sigma), len(sp.Brightness))
+	}
+	for k := range sp.Sigma {
+		if sp.Sigma[k] != sp.Brightness[k] {
+			t.Fatalf("pixel %d: σ %g, brightness %g", k, sp.Sigma[k], sp.Brightness[k])
+		}
+	}
+}
