@@ -164,7 +164,7 @@ func derivedAt(l *Likelihood, theta []float64) *derivedSet {
 		d.add("source intrinsic flux", "mJy", intrTot*1e3, "")
 	}
 	if l.pix != nil {
-		_, pi, err := l.invertPixels(lens, vals)
+		_, pi, err := l.invertPixels(lens, vals, false)
 		if err != nil {
 			return nil
 		}

@@ -116,9 +116,10 @@ type pixelInversion struct {
 // errNoMask is returned when no image pixel traces into the source grid.
 var errNoMask = errors.New("fit: no image pixel traces into the pixelated source's grid")
 
-// invert reconstructs the pixelated source for lens and returns the
-// evidence, marginalised over the source, as ln L.
-func (l *Likelihood) invertPixels(lens lensmodel.Lens, vals []float64) (float64, *pixelInversion, error) {
+// invertPixels reconstructs the pixelated source for lens and returns the
+// evidence, marginalised over the source, as ln L; withErrors also computes
+// the per-pixel σ of the reconstruction.
+func (l *Likelihood) invertPixels(lens lensmodel.Lens, vals []float64, withErrors bool) (float64, *pixelInversion, error) {
 	ps := l.pix
 	g := l.Grid
 	n := g.N
@@ -184,7 +185,7 @@ func (l *Likelihood) invertPixels(lens lensmodel.Lens, vals []float64) (float64,
 		}
 	}
 	nm := source.NewNormal(meas, mp)
-	inv, err := source.Invert(nm, ps.prior, pg, mp, source.InvertOptions{Lambda: ps.lambda, DataLogNorm: norm, NoErrors: true})
+	inv, err := source.Invert(nm, ps.prior, pg, mp, source.InvertOptions{Lambda: ps.lambda, DataLogNorm: norm, NoErrors: !withErrors})
 	if err != nil {
 		return 0, nil, err
 	}
@@ -194,7 +195,9 @@ func (l *Likelihood) invertPixels(lens lensmodel.Lens, vals []float64) (float64,
 
 // pixelEval fills an Evaluation for a pixelated source.
 func (l *Likelihood) pixelEval(theta, vals []float64, lens lensmodel.Lens, keep bool) (float64, *Evaluation, error) {
-	ll, pi, err := l.invertPixels(lens, vals)
+	// The per-pixel σ costs an inverse of the regularised normal matrix:
+	// computed only when the evaluation is kept (best fit, maps).
+	ll, pi, err := l.invertPixels(lens, vals, keep)
 	if err != nil || !keep {
 		return ll, nil, err
 	}

@@ -80,6 +80,14 @@ func TestPixelatedSourceEvidence(t *testing.T) {
 	if ev.Pixels == nil || ev.Pixels.Lambda <= 0 {
 		t.Fatal("no pixelated inversion in the evaluation")
 	}
+	if len(ev.Pixels.Sigma) != len(ev.Pixels.Source) {
+		t.Errorf("kept evaluation has %d σ values for %d source pixels", len(ev.Pixels.Sigma), len(ev.Pixels.Source))
+	}
+	for k, s := range ev.Pixels.Sigma {
+		if !(s > 0) {
+			t.Fatalf("σ[%d] = %g, want > 0", k, s)
+		}
+	}
 	// The lensed flux is what the data measure; the tolerance is a few
 	// times its noise, (Σw)^−½ ≈ 0.2 mJy per beam over a few beams.
 	if f := ev.Pixels.ImageFlux; math.Abs(f-lensedFlux) > 0.1*lensedFlux {
