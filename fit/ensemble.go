@@ -6,9 +6,9 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
-	"runtime"
 	"slices"
-	"sync"
+
+	"deflect/internal/par"
 )
 
 // EnsembleSettings configures Ensemble. The zero value of every field is
@@ -569,30 +569,4 @@ func (e *ensemble) result() *EnsembleResult {
 
 // parallelFor calls f(i) for i in [0, n) on up to GOMAXPROCS goroutines.
 // Callers make f's effect independent of scheduling.
-func parallelFor(n int, f func(i int)) {
-	workers := min(runtime.GOMAXPROCS(0), n)
-	if workers <= 1 {
-		for i := range n {
-			f(i)
-		}
-		return
-	}
-	var wg sync.WaitGroup
-	var mu sync.Mutex
-	next := 0
-	for range workers {
-		wg.Go(func() {
-			for {
-				mu.Lock()
-				i := next
-				next++
-				mu.Unlock()
-				if i >= n {
-					return
-				}
-				f(i)
-			}
-		})
-	}
-	wg.Wait()
-}
+func parallelFor(n int, f func(i int)) { par.Items(n, func(_, i int) { f(i) }) }

@@ -2,7 +2,6 @@ package lensmodel
 
 import (
 	"bytes"
-	"deflect/internal/pyref"
 	"encoding/csv"
 	"math"
 	"os"
@@ -11,6 +10,8 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+
+	"deflect/internal/pyref"
 )
 
 func relClose(t *testing.T, what string, got, want, tol float64) {

@@ -2,9 +2,9 @@ package lensmodel
 
 import (
 	"fmt"
-	"runtime"
 	"sync"
-	"sync/atomic"
+
+	"deflect/internal/par"
 )
 
 // Lens is a sum of mass components, e.g. three galaxies, a group halo and an
@@ -336,26 +336,4 @@ const chunkSize = 512
 
 // parallel calls fn on consecutive chunks [lo, hi) of [0, n), spread over
 // runtime.GOMAXPROCS(0) goroutines.
-func parallel(n int, fn func(lo, hi int)) {
-	workers := min(runtime.GOMAXPROCS(0), (n+chunkSize-1)/chunkSize)
-	if workers <= 1 {
-		for lo := 0; lo < n; lo += chunkSize {
-			fn(lo, min(lo+chunkSize, n))
-		}
-		return
-	}
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for range workers {
-		wg.Go(func() {
-			for {
-				lo := int(next.Add(chunkSize)) - chunkSize
-				if lo >= n {
-					return
-				}
-				fn(lo, min(lo+chunkSize, n))
-			}
-		})
-	}
-	wg.Wait()
-}
+func parallel(n int, fn func(lo, hi int)) { par.Chunks(n, chunkSize, fn) }

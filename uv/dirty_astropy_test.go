@@ -2,7 +2,6 @@ package uv
 
 import (
 	"bytes"
-	"deflect/internal/pyref"
 	"fmt"
 	"math"
 	"math/rand/v2"
@@ -11,6 +10,8 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+
+	"deflect/internal/pyref"
 )
 
 // astropyPython returns an interpreter that imports astropy.wcs, skipping

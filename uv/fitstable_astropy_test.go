@@ -2,12 +2,13 @@ package uv
 
 import (
 	"bytes"
-	"deflect/internal/pyref"
 	"os/exec"
 	"path/filepath"
 	"strconv"
 	"strings"
 	"testing"
+
+	"deflect/internal/pyref"
 )
 
 // tablePython returns a python3 that imports astropy, or skips the test

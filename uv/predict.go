@@ -3,9 +3,8 @@ package uv
 import (
 	"fmt"
 	"math"
-	"runtime"
-	"sync"
 
+	"deflect/internal/par"
 	"deflect/uv/nufft"
 )
 
@@ -172,22 +171,8 @@ func Chi2Visibilities(d *Dataset, model []complex128) float64 {
 	return chi2
 }
 
-// parallelFor splits [0, n) into contiguous ranges run on
-// runtime.GOMAXPROCS(0) goroutines.
+// parallelFor splits [0, n) into contiguous ranges of at least 256 items
+// run on up to runtime.GOMAXPROCS(0) goroutines.
 func parallelFor(n int, fn func(lo, hi int)) {
-	workers := min(runtime.GOMAXPROCS(0), max(1, n/256))
-	if workers <= 1 {
-		fn(0, n)
-		return
-	}
-	var wg sync.WaitGroup
-	for w := range workers {
-		lo, hi := w*n/workers, (w+1)*n/workers
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			fn(lo, hi)
-		}()
-	}
-	wg.Wait()
+	par.Ranges(n, 256, func(_, lo, hi int) { fn(lo, hi) })
 }

@@ -2,8 +2,8 @@ package nufft
 
 import (
 	"runtime"
-	"sync"
-	"sync/atomic"
+
+	"deflect/internal/par"
 )
 
 // workers returns the number of goroutines to use for count independent items.
@@ -22,22 +22,7 @@ func workers(count int) int {
 // calls fn(worker, lo, hi) for each. Each item's result must depend only on the
 // item, never on the chunking, for the caller to stay deterministic.
 func parallelRange(count int, fn func(worker, lo, hi int)) {
-	p := workers(count)
-	if p == 1 {
-		fn(0, 0, count)
-		return
-	}
-	var wg sync.WaitGroup
-	for w := range p {
-		lo := count * w / p
-		hi := count * (w + 1) / p
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			fn(w, lo, hi)
-		}()
-	}
-	wg.Wait()
+	par.Ranges(count, 1, fn)
 }
 
 // parallelItems calls fn(worker, item) for the items in order (item =
@@ -47,27 +32,5 @@ func parallelItems(first, stride, count int, fn func(worker, item int)) {
 	if first < count {
 		n = (count - first + stride - 1) / stride
 	}
-	p := workers(n)
-	if p <= 1 {
-		for it := first; it < count; it += stride {
-			fn(0, it)
-		}
-		return
-	}
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for w := range p {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for {
-				k := int(next.Add(1)) - 1
-				if k >= n {
-					return
-				}
-				fn(w, first+k*stride)
-			}
-		}()
-	}
-	wg.Wait()
+	par.Items(n, func(w, k int) { fn(w, first+k*stride) })
 }
