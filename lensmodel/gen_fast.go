@@ -257,9 +257,17 @@ func accumulate(g group, a1, a2, t0, t1 string) {
 // m in [1, 2), halved (k + 1) when above √2, ln r = k ln 2 + 2 atanh(s),
 // s = (m − 1)/(m + 1), |s| ≤ 0.1716, and 2 atanh(s) = 2s + s R(s²) with
 // the polynomial R of Go's math.Log (after FreeBSD e_log.c); m − 1 is
-// exact (Sterbenz).
+// exact (Sterbenz). Its steps after the division, logReduce and logPoly,
+// are also used apart, in the stages of the SIE kernel.
 func logRatio(out, A, B, kk, t1, t2, t3 string) {
 	div(A, A, B)
+	logReduce(A, kk, t1, t2)
+	logPoly(out, A, B, kk, t1, t2, t3)
+}
+
+// logReduce turns the ratio r in A into k in kk and s = (m − 1)/(m + 1)
+// in t1, clobbering A and t2.
+func logReduce(A, kk, t1, t2 string) {
 	op("VMAXPD", k("one"), A, A) // max(r, 1), 1 for NaN
 	op("VPSRLQ", "$52", A, kk)
 	op("VPOR", k("two52"), kk, kk)
@@ -271,10 +279,15 @@ func logRatio(out, A, B, kk, t1, t2, t3 string) {
 	blend(A, A, t1, t2)
 	and(t2, t2, k("one"))
 	add(kk, kk, t2)
-	// s in t1, s² in t2, s⁴ in t3.
 	sub(t1, A, k("one"))
 	add(t2, A, k("one"))
 	div(t1, t1, t2)
+}
+
+// logPoly writes k ln 2 + 2 atanh(s) to out for s in t1 and k in kk,
+// clobbering A, B, t2 and t3.
+func logPoly(out, A, B, kk, t1, t2, t3 string) {
+	// s² in t2, s⁴ in t3.
 	mul(t2, t1, t1)
 	mul(t3, t2, t2)
 	// R = s²(L1 + s⁴(L3 + s⁴(L5 + s⁴ L7))) + s⁴(L2 + s⁴(L4 + s⁴ L6)).
@@ -321,37 +334,143 @@ func footerStep(name string, step int) {
 	fmt.Fprintf(&b, "\tJLT %s_loop\n%s_done:\n", name, name)
 }
 
-// sie writes sieDeflectAVX, eight points per iteration: rows of sieParams:
-// 0 x0, 1 y0, 2 sin PA, 3 cos PA, 4 q², 5 s², 6 s, 7 q² s, 8 e, 9 e²,
-// 10 b/e, 11 b/(2e); slots 0 x', 1 y', 2 ξ, 3 α_x'.
+// sieBlock is the number of points of the SIE kernel's blocks.
+const sieBlock = 128
+
+// The SIE kernel's scratch arrays of sieBlock values each, written and
+// read by its passes.
+const (
+	scX     = iota // x'
+	scY            // y'
+	scXi           // ξ
+	scRatio        // the log's ratio A/B
+	scXr           // the atan's reduced argument
+	scBase         // the atan's base: 0, π/4 or π/2
+	scCorr         // the atan's correction: 0, Morebits/2 or Morebits
+	scA1           // α_x'
+	scS            // the log's s
+	scK            // the log's k
+	sieSlots
+)
+
+// sc returns the operand of the group's four values in scratch array i
+// (base register R11, index BX).
+func (g group) sc(i int) string {
+	return fmt.Sprintf("%d(R11)(BX*8)", 8*sieBlock*i+g.off)
+}
+
+// siePasses are the passes of the SIE kernel over each block, in order;
+// each is a list of steps.
+var siePasses = [][]func(group){
+	{sieXi},
+	{sieRatio},
+	{sieAtanArg},
+	{sieLogReduce},
+	{sieAtan},
+	{sieLogPoly},
+}
+
+// sie writes sieDeflectAVX: rows of sieParams: 0 x0, 1 y0, 2 sin PA,
+// 3 cos PA, 4 q², 5 s², 6 s, 7 q² s, 8 e, 9 e², 10 b/e, 11 b/(2e). The
+// points go in blocks of sieBlock, each in several passes (loop fission,
+// siePasses), each pass over the block eight points per iteration, passing
+// its results to the next through scratch arrays in the frame. Done in
+// one pass, a group of four points is one long dependency chain (a square
+// root and four divisions, two by two in sequence) of some hundred
+// instructions, more than the processor's floating-point scheduler holds,
+// so that the loop waits on latencies; each pass here is a short chain or
+// ends at its square root or division, and the processor overlaps the
+// chains of several iterations. Each value is computed by the same
+// operations in the same order as in the one-pass form (sieOneGo of
+// fast_mirror.go).
 func sie() {
-	const name, rows, slots = "sieDeflectAVX", 12, 4
-	header(name, "(p *sieParams, ax, ay, x, y *float64, n int)", rows, 2*slots, 48,
-		[]string{"ax", "ay", "x", "y"}, []string{"R9", "R10", "SI", "DI"})
-	interleave(func() { sieGroup(newGroup(0, rows, slots)) }, func() { sieGroup(newGroup(1, rows, slots)) })
-	footer(name)
+	const name, rows = "sieDeflectAVX", 12
+	frame := 32*rows + 8*sieBlock*sieSlots + 32
+	// Not NOSPLIT: the frame holds the scratch arrays.
+	fmt.Fprintf(&b, "// func %s(p *sieParams, ax, ay, x, y *float64, n int)\nTEXT ·%s(SB), $%d-48\n", name, name, frame)
+	op("MOVQ", "p+0(FP)", "R8")
+	for i := range rows {
+		op("VBROADCASTSD", fmt.Sprintf("%d(R8)", 8*i), "Y0")
+		op("VMOVUPD", "Y0", p(i))
+	}
+	for i, a := range []string{"ax", "ay", "x", "y"} {
+		op("MOVQ", fmt.Sprintf("%s+%d(FP)", a, 8*(i+1)), []string{"R9", "R10", "SI", "DI"}[i])
+	}
+	op("MOVQ", "n+40(FP)", "DX")
+	// R11: the scratch arrays, aligned to 32 bytes.
+	op("LEAQ", fmt.Sprintf("%d(SP)", 32*rows+31), "R11")
+	op("ANDQ", "$-32", "R11")
+	op("TESTQ", "DX", "DX")
+	fmt.Fprintf(&b, "\tJLE %s_done\n%s_block:\n", name, name)
+	// CX = min(DX, sieBlock) points in this block.
+	op("MOVQ", fmt.Sprintf("$%d", sieBlock), "CX")
+	op("CMPQ", "DX", "CX")
+	op("CMOVQLT", "DX", "CX")
+	for i, steps := range siePasses {
+		op("XORQ", "BX", "BX")
+		fmt.Fprintf(&b, "%s_p%d:\n", name, i)
+		pass := func(g group) {
+			for _, s := range steps {
+				s(g)
+			}
+		}
+		interleave(func() { pass(newGroup(0, rows, 0)) }, func() { pass(newGroup(1, rows, 0)) })
+		op("ADDQ", "$8", "BX")
+		op("CMPQ", "BX", "CX")
+		fmt.Fprintf(&b, "\tJLT %s_p%d\n", name, i)
+	}
+	for _, r := range []string{"SI", "DI", "R9", "R10"} {
+		op("LEAQ", fmt.Sprintf("(%s)(CX*8)", r), r)
+	}
+	op("SUBQ", "CX", "DX")
+	fmt.Fprintf(&b, "\tJG %s_block\n%s_done:\n", name, name)
 	op("VZEROUPPER")
 	op("RET")
 	b.WriteString("\n")
-
 }
 
-func sieGroup(g group) {
+// sieXi: rotation and ξ = √(q² (s² + x'²) + y'²).
+func sieXi(g group) {
 	r := g.r
 	local(g)
-	op("VMOVUPD", r[2], g.slot(0))
-	op("VMOVUPD", r[3], g.slot(1))
-	// ξ = √(q² (s² + x'²) + y'²), ps = ξ + s.
+	op("VMOVUPD", r[2], g.sc(scX))
+	op("VMOVUPD", r[3], g.sc(scY))
 	op("VMOVUPD", p(5), r[4])
 	fma231(r[4], r[2], r[2])
 	mul(r[4], r[4], p(4))
 	fma231(r[4], r[3], r[3])
 	op("VSQRTPD", r[4], r[4])
-	op("VMOVUPD", r[4], g.slot(2))
+	op("VMOVUPD", r[4], g.sc(scXi))
+}
+
+// sieRatio: the ratio A/B of α_y' = (b/2e) ln(A/B), A = num²,
+// num = ξ + q² s + e|y'|, B = q² (ps² + e² x'²), ps = ξ + s.
+func sieRatio(g group) {
+	r := g.r
+	op("VMOVUPD", g.sc(scXi), r[4])
+	op("VMOVUPD", g.sc(scY), r[3])
+	op("VMOVUPD", g.sc(scX), r[2])
 	add(r[5], r[4], p(6))
-	// atan(u/v), u = e|x'|, v = ps, reduced as in Go's math.Atan (Cephes):
-	// u > tan(3π/8) v: π/2 + atan(−v/u) + Morebits;
-	// u > 0.66 v: π/4 + atan((u − v)/(u + v)) + Morebits/2; else atan(u/v).
+	and(r[0], r[3], k("abs"))
+	add(r[1], r[4], p(7))
+	fma231(r[1], r[0], p(8))
+	mul(r[1], r[1], r[1]) // A
+	mul(r[0], r[2], r[2])
+	mul(r[0], r[0], p(9))
+	fma231(r[0], r[5], r[5])
+	mul(r[0], r[0], p(4)) // B
+	div(r[1], r[1], r[0])
+	op("VMOVUPD", r[1], g.sc(scRatio))
+}
+
+// sieAtanArg: atan(u/v), u = e|x'|, v = ps, reduced as in Go's math.Atan
+// (Cephes): u > tan(3π/8) v: π/2 + atan(−v/u) + Morebits;
+// u > 0.66 v: π/4 + atan((u − v)/(u + v)) + Morebits/2; else atan(u/v).
+func sieAtanArg(g group) {
+	r := g.r
+	op("VMOVUPD", g.sc(scXi), r[4])
+	op("VMOVUPD", g.sc(scX), r[2])
+	add(r[5], r[4], p(6))
 	and(r[6], r[2], k("abs"))
 	mul(r[6], r[6], p(8))
 	mul(r[0], r[5], k("tan3pio8"))
@@ -369,7 +488,29 @@ func sieGroup(g group) {
 	// 0/max(D, tiny) is 0.
 	op("VMAXPD", k("tiny"), r[2], r[2])
 	div(r[4], r[4], r[2])
-	// xatan: x + x z P(z)/Q(z), z = x².
+	op("VMOVUPD", r[4], g.sc(scXr))
+	and(r[0], r[3], k("pio4"))
+	blend(r[0], r[0], k("pio2"), r[7])
+	op("VMOVUPD", r[0], g.sc(scBase))
+	and(r[1], r[3], k("hmorebits"))
+	blend(r[1], r[1], k("morebits"), r[7])
+	op("VMOVUPD", r[1], g.sc(scCorr))
+}
+
+// sieLogReduce: the log's reduction of A/B to k and s.
+func sieLogReduce(g group) {
+	r := g.r
+	op("VMOVUPD", g.sc(scRatio), r[5])
+	logReduce(r[5], r[6], r[7], r[3])
+	op("VMOVUPD", r[6], g.sc(scK))
+	op("VMOVUPD", r[7], g.sc(scS))
+}
+
+// sieAtan: the atan's rational function, x + x z P(z)/Q(z), z = x², and
+// α_x' = (b/e) atan(e x'/(ξ + s)).
+func sieAtan(g group) {
+	r := g.r
+	op("VMOVUPD", g.sc(scXr), r[4])
 	mul(r[0], r[4], r[4])
 	op("VMOVUPD", k("P0"), r[1])
 	for i := 1; i <= 4; i++ {
@@ -382,36 +523,26 @@ func sieGroup(g group) {
 	mul(r[1], r[1], r[0])
 	div(r[1], r[1], r[2])
 	fma213(r[1], r[4], r[4])
-	and(r[0], r[3], k("pio4"))
-	blend(r[0], r[0], k("pio2"), r[7])
-	and(r[2], r[3], k("hmorebits"))
-	blend(r[2], r[2], k("morebits"), r[7])
-	add(r[1], r[1], r[0])
-	add(r[1], r[1], r[2])
-	op("VMOVUPD", g.slot(0), r[0])
+	add(r[1], r[1], g.sc(scBase))
+	add(r[1], r[1], g.sc(scCorr))
+	op("VMOVUPD", g.sc(scX), r[0])
 	and(r[0], r[0], k("sign"))
 	xor(r[1], r[1], r[0])
-	mul(r[1], r[1], p(10)) // α_x' = (b/e) atan(e x'/(ξ + s))
-	op("VMOVUPD", r[1], g.slot(3))
-	// α_y' = (b/2e) ln(num²/(q² (ps² + e² x'²))), num = ξ + q² s + e|y'|.
-	op("VMOVUPD", g.slot(1), r[0])
-	and(r[0], r[0], k("abs"))
-	op("VMOVUPD", g.slot(2), r[2])
-	add(r[1], r[2], p(7))
-	fma231(r[1], r[0], p(8))
-	mul(r[1], r[1], r[1]) // A
-	add(r[2], r[2], p(6)) // ps
-	op("VMOVUPD", g.slot(0), r[3])
-	mul(r[3], r[3], r[3])
-	mul(r[3], r[3], p(9))
-	fma231(r[3], r[2], r[2])
-	mul(r[3], r[3], p(4)) // B
-	logRatio(r[6], r[1], r[3], r[0], r[2], r[4], r[5])
+	mul(r[1], r[1], p(10))
+	op("VMOVUPD", r[1], g.sc(scA1))
+}
+
+// sieLogPoly: the log's polynomial, α_y', the rotation back and the sum.
+func sieLogPoly(g group) {
+	r := g.r
+	op("VMOVUPD", g.sc(scS), r[1])
+	op("VMOVUPD", g.sc(scK), r[0])
+	logPoly(r[6], r[2], r[3], r[0], r[1], r[4], r[5])
 	mul(r[6], r[6], p(11))
-	op("VMOVUPD", g.slot(1), r[0])
+	op("VMOVUPD", g.sc(scY), r[0])
 	and(r[0], r[0], k("sign"))
 	xor(r[6], r[6], r[0])
-	op("VMOVUPD", g.slot(3), r[1])
+	op("VMOVUPD", g.sc(scA1), r[1])
 	accumulate(g, r[1], r[6], r[0], r[2])
 }
 
