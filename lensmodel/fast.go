@@ -5,17 +5,22 @@ package lensmodel
 // R < 0.8 r_s and the external shear are evaluated by the assembly of
 // fast_amd64.s (written by gen_fast.go), eight points per loop iteration in
 // two interleaved groups of four; elsewhere the per-point formulas are used.
-// The SIE kernel takes the points in blocks of 128 and makes several passes
-// over each block (loop fission): the rotation and ξ; the log's ratio; the
-// atan's reduced argument; the log's reduction; the atan's rational
-// function and α_x'; the log's polynomial, α_y', the rotation back and the
-// sum. The passes hand their values on through scratch arrays in the
-// kernel's frame (10 KiB, in the first-level cache), so that each loop is a
-// short dependency chain, or one that ends at its square root or division,
-// and the processor overlaps the iterations: in one pass, the chain of a
-// group of four points is longer than the floating-point scheduler can
-// hold, and the loop waits on its latencies. Each value is computed by the
-// same operations in the same order either way.
+// The SIE and NFW kernels take the points in blocks of 128 and make several
+// passes over each block (loop fission), handing values on through scratch
+// arrays in the kernel's frame (10–11 KiB, in the first-level cache). In
+// one pass, the dependency chain of a group of four points (a square root
+// and several divisions in sequence) is longer than the floating-point
+// scheduler can hold, and the loop waits on latencies; each pass is a short
+// chain, or one that ends at its square root or division, so that the
+// processor overlaps the iterations. SIE: the rotation and ξ; the log's
+// ratio; the atan's reduced argument; the log's reduction; the atan's
+// rational function and α_x'; the log's polynomial, α_y', the rotation back
+// and the sum. NFW: the rotation, R and the domain check (the block ends
+// at the first group of eight outside it); the log's ratio; √(1 − x²); the
+// log's reduction; 1/(s p d) beside the log's polynomial; the series S;
+// the combination, the rotation back and the sum. Each value is computed by
+// the same operations in the same order as in one pass.
+//
 // With the kernels, the per-point deflection methods of the SIE and NFW
 // use the kernels' one-point Go forms (fast_mirror.go), which give the same
 // values bit for bit, so that batch and per-point values stay equal; the

@@ -75,7 +75,7 @@ func logRatioOne(a, b float64) float64 {
 	return math.FMA(k, ln2Hi, out)
 }
 
-// sieOneGo is sieGroup of gen_fast.go for one point.
+// sieOneGo is the passes siePasses of gen_fast.go for one point.
 func sieOneGo(c *sieParams, x, y float64) (ax, ay float64) {
 	const (
 		p0, p1, p2 = -8.750608600031904122785e-01, -1.615753718733365076637e+01, -7.500855792314704667340e+01
@@ -136,7 +136,8 @@ func sieOneGo(c *sieParams, x, y float64) (ax, ay float64) {
 	return rotateSky(a1, a2, sn, cs)
 }
 
-// nfwOneGo is nfwRadius and nfwGroup of gen_fast.go for one point; ok is
+// nfwOneGo is nfwRadius and the passes nfwPasses of gen_fast.go for one
+// point; ok is
 // false outside the kernel's domain R < 0.8 r_s.
 func nfwOneGo(c *nfwParams, x, y float64) (ax, ay float64, ok bool) {
 	sn, cs, a1, a2 := c[2], c[3], c[4], c[5]

@@ -62,26 +62,20 @@ func interleave(g0, g1 func()) {
 }
 
 // group is one of the two groups of four points of a loop iteration: its
-// eight registers, the byte offset of its points from index BX, and the
-// frame offset of its slots.
+// eight registers and the byte offset of its points from index BX.
 type group struct {
-	r     [8]string
-	off   int
-	slots int
+	r   [8]string
+	off int
 }
 
-func newGroup(g, rows, nslots int) group {
+func newGroup(g int) group {
 	var gr group
 	for i := range gr.r {
 		gr.r[i] = fmt.Sprintf("Y%d", 8*g+i)
 	}
 	gr.off = 32 * g
-	gr.slots = 32*rows + 32*nslots*g
 	return gr
 }
-
-// slot returns the frame operand of the group's slot i.
-func (g group) slot(i int) string { return fmt.Sprintf("%d(SP)", g.slots+32*i) }
 
 // at returns the operand of the group's four values at base register reg.
 func (g group) at(reg string) string { return fmt.Sprintf("%d(%s)(BX*8)", g.off, reg) }
@@ -306,61 +300,100 @@ func logPoly(out, A, B, kk, t1, t2, t3 string) {
 	fma231(out, kk, k("ln2hi"))
 }
 
-// header starts the kernel name: it broadcasts the rows parameters at p
-// into its frame (with room for slots more rows), loads the pointer
-// arguments into the registers regs (in the order of args, after p) and n
-// into CX, and opens the loop over BX.
-func header(name, sig string, rows, slots, argBytes int, args, regs []string) {
-	fmt.Fprintf(&b, "// func %s%s\nTEXT ·%s(SB), NOSPLIT, $%d-%d\n", name, sig, name, 32*(rows+slots), argBytes)
+// block is the number of points of the SIE and NFW kernels' blocks: each
+// makes several passes over a block (loop fission), eight points per
+// iteration, handing values from pass to pass through scratch arrays of
+// block values each in its frame. Done in one pass, the dependency chain of
+// a group of four points (a square root and several divisions in sequence,
+// some hundred instructions) is longer than the processor's floating-point
+// scheduler holds, and the loop waits on latencies; each pass is a short
+// chain or one that ends at its square root or division, so that the
+// processor overlaps the iterations. Each value is computed by the same
+// operations in the same order as in one pass (fast_mirror.go).
+const block = 128
+
+// sc returns the operand of the group's four values in scratch array i
+// (base register R11, index BX).
+func (g group) sc(i int) string {
+	return fmt.Sprintf("%d(R11)(BX*8)", 8*block*i+g.off)
+}
+
+// prologue starts a kernel with rows parameters and slots scratch arrays:
+// it broadcasts the parameters at p into rows of its frame, loads the
+// pointers ax, ay, x, y into R9, R10, SI, DI, n into R12 and the 32-byte
+// aligned address of the scratch arrays into R11. The frame is too large
+// for NOSPLIT.
+func prologue(name, sig string, rows, slots, argBytes int) {
+	frame := 32*rows + 8*block*slots + 32
+	fmt.Fprintf(&b, "// func %s%s\nTEXT ·%s(SB), $%d-%d\n", name, sig, name, frame, argBytes)
 	op("MOVQ", "p+0(FP)", "R8")
 	for i := range rows {
 		op("VBROADCASTSD", fmt.Sprintf("%d(R8)", 8*i), "Y0")
 		op("VMOVUPD", "Y0", p(i))
 	}
-	for i, a := range args {
-		op("MOVQ", fmt.Sprintf("%s+%d(FP)", a, 8*(i+1)), regs[i])
+	for i, a := range []string{"ax", "ay", "x", "y"} {
+		op("MOVQ", fmt.Sprintf("%s+%d(FP)", a, 8*(i+1)), []string{"R9", "R10", "SI", "DI"}[i])
 	}
-	op("MOVQ", fmt.Sprintf("n+%d(FP)", 8*(len(args)+1)), "CX")
+	op("MOVQ", "n+40(FP)", "R12")
+	op("LEAQ", fmt.Sprintf("%d(SP)", 32*rows+31), "R11")
+	op("ANDQ", "$-32", "R11")
+}
+
+// blockStart opens the loop over blocks (to label) with CX = min(R12,
+// block) points in the block.
+func blockStart(label string) {
+	fmt.Fprintf(&b, "%s:\n", label)
+	op("MOVQ", fmt.Sprintf("$%d", block), "CX")
+	op("CMPQ", "R12", "CX")
+	op("CMOVQLT", "R12", "CX")
+}
+
+// blockEnd advances the pointers by the CX points of the block, subtracts
+// them from R12 and loops to label while points remain.
+func blockEnd(label string) {
+	for _, r := range []string{"SI", "DI", "R9", "R10"} {
+		op("LEAQ", fmt.Sprintf("(%s)(CX*8)", r), r)
+	}
+	op("SUBQ", "CX", "R12")
+	fmt.Fprintf(&b, "\tJG %s\n", label)
+}
+
+// pass writes one pass over the CX points of the block, the steps on two
+// interleaved groups of four points per iteration.
+func pass(label string, steps []func(group)) {
 	op("XORQ", "BX", "BX")
+	fmt.Fprintf(&b, "%s:\n", label)
+	passBody(steps)
+	op("ADDQ", "$8", "BX")
 	op("CMPQ", "BX", "CX")
-	fmt.Fprintf(&b, "\tJGE %s_done\n%s_loop:\n", name, name)
+	fmt.Fprintf(&b, "\tJLT %s\n", label)
 }
 
-func footer(name string) { footerStep(name, 8) }
-
-func footerStep(name string, step int) {
-	op("ADDQ", fmt.Sprintf("$%d", step), "BX")
-	op("CMPQ", "BX", "CX")
-	fmt.Fprintf(&b, "\tJLT %s_loop\n%s_done:\n", name, name)
+func passBody(steps []func(group)) {
+	run := func(g group) {
+		for _, s := range steps {
+			s(g)
+		}
+	}
+	interleave(func() { run(newGroup(0)) }, func() { run(newGroup(1)) })
 }
 
-// sieBlock is the number of points of the SIE kernel's blocks.
-const sieBlock = 128
-
-// The SIE kernel's scratch arrays of sieBlock values each, written and
-// read by its passes.
+// The SIE kernel's scratch arrays.
 const (
-	scX     = iota // x'
-	scY            // y'
-	scXi           // ξ
-	scRatio        // the log's ratio A/B
-	scXr           // the atan's reduced argument
-	scBase         // the atan's base: 0, π/4 or π/2
-	scCorr         // the atan's correction: 0, Morebits/2 or Morebits
-	scA1           // α_x'
-	scS            // the log's s
-	scK            // the log's k
+	sieSlotX     = iota // x'
+	sieSlotY            // y'
+	sieSlotXi           // ξ
+	sieSlotRatio        // the log's ratio A/B
+	sieSlotXr           // the atan's reduced argument
+	sieSlotBase         // the atan's base: 0, π/4 or π/2
+	sieSlotCorr         // the atan's correction: 0, Morebits/2 or Morebits
+	sieSlotA1           // α_x'
+	sieSlotS            // the log's s
+	sieSlotK            // the log's k
 	sieSlots
 )
 
-// sc returns the operand of the group's four values in scratch array i
-// (base register R11, index BX).
-func (g group) sc(i int) string {
-	return fmt.Sprintf("%d(R11)(BX*8)", 8*sieBlock*i+g.off)
-}
-
-// siePasses are the passes of the SIE kernel over each block, in order;
-// each is a list of steps.
+// siePasses are the passes of the SIE kernel over each block, in order.
 var siePasses = [][]func(group){
 	{sieXi},
 	{sieRatio},
@@ -371,59 +404,19 @@ var siePasses = [][]func(group){
 }
 
 // sie writes sieDeflectAVX: rows of sieParams: 0 x0, 1 y0, 2 sin PA,
-// 3 cos PA, 4 q², 5 s², 6 s, 7 q² s, 8 e, 9 e², 10 b/e, 11 b/(2e). The
-// points go in blocks of sieBlock, each in several passes (loop fission,
-// siePasses), each pass over the block eight points per iteration, passing
-// its results to the next through scratch arrays in the frame. Done in
-// one pass, a group of four points is one long dependency chain (a square
-// root and four divisions, two by two in sequence) of some hundred
-// instructions, more than the processor's floating-point scheduler holds,
-// so that the loop waits on latencies; each pass here is a short chain or
-// ends at its square root or division, and the processor overlaps the
-// chains of several iterations. Each value is computed by the same
-// operations in the same order as in the one-pass form (sieOneGo of
-// fast_mirror.go).
+// 3 cos PA, 4 q², 5 s², 6 s, 7 q² s, 8 e, 9 e², 10 b/e, 11 b/(2e); the
+// passes siePasses over each block.
 func sie() {
 	const name, rows = "sieDeflectAVX", 12
-	frame := 32*rows + 8*sieBlock*sieSlots + 32
-	// Not NOSPLIT: the frame holds the scratch arrays.
-	fmt.Fprintf(&b, "// func %s(p *sieParams, ax, ay, x, y *float64, n int)\nTEXT ·%s(SB), $%d-48\n", name, name, frame)
-	op("MOVQ", "p+0(FP)", "R8")
-	for i := range rows {
-		op("VBROADCASTSD", fmt.Sprintf("%d(R8)", 8*i), "Y0")
-		op("VMOVUPD", "Y0", p(i))
-	}
-	for i, a := range []string{"ax", "ay", "x", "y"} {
-		op("MOVQ", fmt.Sprintf("%s+%d(FP)", a, 8*(i+1)), []string{"R9", "R10", "SI", "DI"}[i])
-	}
-	op("MOVQ", "n+40(FP)", "DX")
-	// R11: the scratch arrays, aligned to 32 bytes.
-	op("LEAQ", fmt.Sprintf("%d(SP)", 32*rows+31), "R11")
-	op("ANDQ", "$-32", "R11")
-	op("TESTQ", "DX", "DX")
-	fmt.Fprintf(&b, "\tJLE %s_done\n%s_block:\n", name, name)
-	// CX = min(DX, sieBlock) points in this block.
-	op("MOVQ", fmt.Sprintf("$%d", sieBlock), "CX")
-	op("CMPQ", "DX", "CX")
-	op("CMOVQLT", "DX", "CX")
+	prologue(name, "(p *sieParams, ax, ay, x, y *float64, n int)", rows, sieSlots, 48)
+	op("TESTQ", "R12", "R12")
+	fmt.Fprintf(&b, "\tJLE %s_done\n", name)
+	blockStart(name + "_block")
 	for i, steps := range siePasses {
-		op("XORQ", "BX", "BX")
-		fmt.Fprintf(&b, "%s_p%d:\n", name, i)
-		pass := func(g group) {
-			for _, s := range steps {
-				s(g)
-			}
-		}
-		interleave(func() { pass(newGroup(0, rows, 0)) }, func() { pass(newGroup(1, rows, 0)) })
-		op("ADDQ", "$8", "BX")
-		op("CMPQ", "BX", "CX")
-		fmt.Fprintf(&b, "\tJLT %s_p%d\n", name, i)
+		pass(fmt.Sprintf("%s_p%d", name, i), steps)
 	}
-	for _, r := range []string{"SI", "DI", "R9", "R10"} {
-		op("LEAQ", fmt.Sprintf("(%s)(CX*8)", r), r)
-	}
-	op("SUBQ", "CX", "DX")
-	fmt.Fprintf(&b, "\tJG %s_block\n%s_done:\n", name, name)
+	blockEnd(name + "_block")
+	fmt.Fprintf(&b, "%s_done:\n", name)
 	op("VZEROUPPER")
 	op("RET")
 	b.WriteString("\n")
@@ -433,23 +426,23 @@ func sie() {
 func sieXi(g group) {
 	r := g.r
 	local(g)
-	op("VMOVUPD", r[2], g.sc(scX))
-	op("VMOVUPD", r[3], g.sc(scY))
+	op("VMOVUPD", r[2], g.sc(sieSlotX))
+	op("VMOVUPD", r[3], g.sc(sieSlotY))
 	op("VMOVUPD", p(5), r[4])
 	fma231(r[4], r[2], r[2])
 	mul(r[4], r[4], p(4))
 	fma231(r[4], r[3], r[3])
 	op("VSQRTPD", r[4], r[4])
-	op("VMOVUPD", r[4], g.sc(scXi))
+	op("VMOVUPD", r[4], g.sc(sieSlotXi))
 }
 
 // sieRatio: the ratio A/B of α_y' = (b/2e) ln(A/B), A = num²,
 // num = ξ + q² s + e|y'|, B = q² (ps² + e² x'²), ps = ξ + s.
 func sieRatio(g group) {
 	r := g.r
-	op("VMOVUPD", g.sc(scXi), r[4])
-	op("VMOVUPD", g.sc(scY), r[3])
-	op("VMOVUPD", g.sc(scX), r[2])
+	op("VMOVUPD", g.sc(sieSlotXi), r[4])
+	op("VMOVUPD", g.sc(sieSlotY), r[3])
+	op("VMOVUPD", g.sc(sieSlotX), r[2])
 	add(r[5], r[4], p(6))
 	and(r[0], r[3], k("abs"))
 	add(r[1], r[4], p(7))
@@ -460,7 +453,7 @@ func sieRatio(g group) {
 	fma231(r[0], r[5], r[5])
 	mul(r[0], r[0], p(4)) // B
 	div(r[1], r[1], r[0])
-	op("VMOVUPD", r[1], g.sc(scRatio))
+	op("VMOVUPD", r[1], g.sc(sieSlotRatio))
 }
 
 // sieAtanArg: atan(u/v), u = e|x'|, v = ps, reduced as in Go's math.Atan
@@ -468,8 +461,8 @@ func sieRatio(g group) {
 // u > 0.66 v: π/4 + atan((u − v)/(u + v)) + Morebits/2; else atan(u/v).
 func sieAtanArg(g group) {
 	r := g.r
-	op("VMOVUPD", g.sc(scXi), r[4])
-	op("VMOVUPD", g.sc(scX), r[2])
+	op("VMOVUPD", g.sc(sieSlotXi), r[4])
+	op("VMOVUPD", g.sc(sieSlotX), r[2])
 	add(r[5], r[4], p(6))
 	and(r[6], r[2], k("abs"))
 	mul(r[6], r[6], p(8))
@@ -488,29 +481,29 @@ func sieAtanArg(g group) {
 	// 0/max(D, tiny) is 0.
 	op("VMAXPD", k("tiny"), r[2], r[2])
 	div(r[4], r[4], r[2])
-	op("VMOVUPD", r[4], g.sc(scXr))
+	op("VMOVUPD", r[4], g.sc(sieSlotXr))
 	and(r[0], r[3], k("pio4"))
 	blend(r[0], r[0], k("pio2"), r[7])
-	op("VMOVUPD", r[0], g.sc(scBase))
+	op("VMOVUPD", r[0], g.sc(sieSlotBase))
 	and(r[1], r[3], k("hmorebits"))
 	blend(r[1], r[1], k("morebits"), r[7])
-	op("VMOVUPD", r[1], g.sc(scCorr))
+	op("VMOVUPD", r[1], g.sc(sieSlotCorr))
 }
 
 // sieLogReduce: the log's reduction of A/B to k and s.
 func sieLogReduce(g group) {
 	r := g.r
-	op("VMOVUPD", g.sc(scRatio), r[5])
+	op("VMOVUPD", g.sc(sieSlotRatio), r[5])
 	logReduce(r[5], r[6], r[7], r[3])
-	op("VMOVUPD", r[6], g.sc(scK))
-	op("VMOVUPD", r[7], g.sc(scS))
+	op("VMOVUPD", r[6], g.sc(sieSlotK))
+	op("VMOVUPD", r[7], g.sc(sieSlotS))
 }
 
 // sieAtan: the atan's rational function, x + x z P(z)/Q(z), z = x², and
 // α_x' = (b/e) atan(e x'/(ξ + s)).
 func sieAtan(g group) {
 	r := g.r
-	op("VMOVUPD", g.sc(scXr), r[4])
+	op("VMOVUPD", g.sc(sieSlotXr), r[4])
 	mul(r[0], r[4], r[4])
 	op("VMOVUPD", k("P0"), r[1])
 	for i := 1; i <= 4; i++ {
@@ -523,109 +516,214 @@ func sieAtan(g group) {
 	mul(r[1], r[1], r[0])
 	div(r[1], r[1], r[2])
 	fma213(r[1], r[4], r[4])
-	add(r[1], r[1], g.sc(scBase))
-	add(r[1], r[1], g.sc(scCorr))
-	op("VMOVUPD", g.sc(scX), r[0])
+	add(r[1], r[1], g.sc(sieSlotBase))
+	add(r[1], r[1], g.sc(sieSlotCorr))
+	op("VMOVUPD", g.sc(sieSlotX), r[0])
 	and(r[0], r[0], k("sign"))
 	xor(r[1], r[1], r[0])
 	mul(r[1], r[1], p(10))
-	op("VMOVUPD", r[1], g.sc(scA1))
+	op("VMOVUPD", r[1], g.sc(sieSlotA1))
 }
 
 // sieLogPoly: the log's polynomial, α_y', the rotation back and the sum.
 func sieLogPoly(g group) {
 	r := g.r
-	op("VMOVUPD", g.sc(scS), r[1])
-	op("VMOVUPD", g.sc(scK), r[0])
+	op("VMOVUPD", g.sc(sieSlotS), r[1])
+	op("VMOVUPD", g.sc(sieSlotK), r[0])
 	logPoly(r[6], r[2], r[3], r[0], r[1], r[4], r[5])
 	mul(r[6], r[6], p(11))
-	op("VMOVUPD", g.sc(scY), r[0])
+	op("VMOVUPD", g.sc(sieSlotY), r[0])
 	and(r[0], r[0], k("sign"))
 	xor(r[6], r[6], r[0])
-	op("VMOVUPD", g.sc(scA1), r[1])
+	op("VMOVUPD", g.sc(sieSlotA1), r[1])
 	accumulate(g, r[1], r[6], r[0], r[2])
 }
 
-// nfw writes nfwDeflectAVX, eight points per iteration: rows of
-// nfwParams: 0 x0, 1 y0, 2 sin PA, 3 cos PA, 4 a1 = 1 − ε, 5 a2 = 1 + ε,
-// 6 1/r_s, 7 2 r_s, 8 4κ_s; slots 0 x', 1 y', 2 the mask R ≠ 0. It stops
-// at the first group of eight points with one at R ≥ 0.8 r_s (or not a
-// number) and returns its index.
+// The NFW kernel's scratch arrays.
+const (
+	nfwSlotX     = iota // x'
+	nfwSlotY            // y'
+	nfwSlotR            // R
+	nfwSlotXx           // x = R/r_s
+	nfwSlotRatio        // the log's ratio 2 r_s/R
+	nfwSlotSq           // s = √(1 − x²)
+	nfwSlotK            // the log's k
+	nfwSlotLs           // the log's s
+	nfwSlotInv          // 1/(s p d)
+	nfwSlotL            // L = ln(2 r_s/R)
+	nfwSlotSum          // S
+	nfwSlots
+)
+
+// nfwPasses are the passes of the NFW kernel over each block after the
+// first, nfwRadius.
+// nfwInverse's division and nfwLogPoly's products share a pass, so that
+// the divider and the multipliers work at once.
+var nfwPasses = [][]func(group){
+	{nfwLogRatio},
+	{nfwSqrt},
+	{nfwLogReduce},
+	{nfwInverse, nfwLogPoly},
+	{nfwSeries},
+	{nfwCombine},
+}
+
+// nfw writes nfwDeflectAVX: rows of nfwParams: 0 x0, 1 y0, 2 sin PA,
+// 3 cos PA, 4 a1 = 1 − ε, 5 a2 = 1 + ε, 6 1/r_s, 7 2 r_s, 8 4κ_s. It
+// stops at the first group of eight points with one at R ≥ 0.8 r_s (or
+// not a number) and returns its index: the first pass over a block,
+// nfwRadius, ends the block there, and the kernel after it.
 func nfw() {
-	const name, rows, slots = "nfwDeflectAVX", 9, 3
-	header(name, "(p *nfwParams, ax, ay, x, y *float64, n int) (done int)", rows, 2*slots, 56,
-		[]string{"ax", "ay", "x", "y"}, []string{"R9", "R10", "SI", "DI"})
-	g0, g1 := newGroup(0, rows, slots), newGroup(1, rows, slots)
-	interleave(func() { nfwRadius(g0, "AX") }, func() { nfwRadius(g1, "DX") })
+	const name, rows = "nfwDeflectAVX", 9
+	prologue(name, "(p *nfwParams, ax, ay, x, y *float64, n int) (done int)", rows, nfwSlots, 56)
+	op("XORQ", "R13", "R13") // points done
+	op("TESTQ", "R12", "R12")
+	fmt.Fprintf(&b, "\tJLE %s_done\n", name)
+	blockStart(name + "_block")
+	op("XORQ", "BX", "BX")
+	fmt.Fprintf(&b, "%s_p0:\n", name)
+	interleave(func() { nfwRadius(newGroup(0), "AX") }, func() { nfwRadius(newGroup(1), "DX") })
 	op("ANDL", "DX", "AX")
 	op("CMPL", "AX", "$15")
-	fmt.Fprintf(&b, "\tJNE %s_done\n", name)
-	interleave(func() { nfwGroup(g0) }, func() { nfwGroup(g1) })
-	footer(name)
-	op("MOVQ", "BX", "done+48(FP)")
+	fmt.Fprintf(&b, "\tJNE %s_short\n", name)
+	op("ADDQ", "$8", "BX")
+	op("CMPQ", "BX", "CX")
+	fmt.Fprintf(&b, "\tJLT %s_p0\n", name)
+	fmt.Fprintf(&b, "\tJMP %s_passes\n%s_short:\n", name, name)
+	// The block ends at BX, and the kernel after it (R12 = CX).
+	op("MOVQ", "BX", "CX")
+	op("MOVQ", "BX", "R12")
+	op("TESTQ", "CX", "CX")
+	fmt.Fprintf(&b, "\tJEQ %s_done\n%s_passes:\n", name, name)
+	for i, steps := range nfwPasses {
+		pass(fmt.Sprintf("%s_p%d", name, i+1), steps)
+	}
+	op("ADDQ", "CX", "R13")
+	blockEnd(name + "_block")
+	fmt.Fprintf(&b, "%s_done:\n", name)
+	op("MOVQ", "R13", "done+48(FP)")
 	op("VZEROUPPER")
 	op("RET")
 	b.WriteString("\n")
-
 }
 
-// nfwRadius computes R = √(a1 x'² + a2 y'²) in r4 and x = R/r_s in r5 and
-// sets the bits of mask where x < 1/2.
+// nfwRadius: rotation, R = √(a1 x'² + a2 y'²) and x = R/r_s; it sets the
+// bits of mask where x < 0.8.
 func nfwRadius(g group, mask string) {
 	r := g.r
 	local(g)
-	op("VMOVUPD", r[2], g.slot(0))
-	op("VMOVUPD", r[3], g.slot(1))
+	op("VMOVUPD", r[2], g.sc(nfwSlotX))
+	op("VMOVUPD", r[3], g.sc(nfwSlotY))
 	mul(r[4], r[2], r[2])
 	mul(r[4], r[4], p(4))
 	mul(r[0], r[3], r[3])
 	fma231(r[4], r[0], p(5))
 	op("VSQRTPD", r[4], r[4])
+	op("VMOVUPD", r[4], g.sc(nfwSlotR))
 	mul(r[5], r[4], p(6))
+	op("VMOVUPD", r[5], g.sc(nfwSlotXx))
 	cmp(r[6], r[5], k("nfwmax"), predLT)
 	op("VMOVMSKPD", r[6], mask)
 }
 
-// nfwGroup: 4h(x)/x² = (4/s) [ln(2/x)/p − 2 S/d], s = √(1 − x²), p = 1 + s,
-// d = 4p − x², S = Σ_j z^{2j}/(2j + 1), z = x²/d ≤ 0.111 (fast.go).
-func nfwGroup(g group) {
+// The NFW deflection inside the domain: 4h(x)/x² = (4/s) [ln(2/x)/p −
+// 2 S/d], s = √(1 − x²), p = 1 + s, d = 4p − x², S = Σ_j z^{2j}/(2j + 1),
+// z = x²/d ≤ 0.111 (fast.go), with one division for 1/(s p d).
+
+// nfwLogRatio: the log's ratio 2 r_s/R.
+func nfwLogRatio(g group) {
 	r := g.r
-	op("VXORPD", r[0], r[0], r[0])
-	cmp(r[0], r[4], r[0], predNEQ)
-	op("VMOVUPD", r[0], g.slot(2))
-	// L = ln(2 r_s/R) in r7.
 	op("VMOVUPD", p(7), r[1])
-	logRatio(r[7], r[1], r[4], r[0], r[2], r[3], r[6])
+	div(r[1], r[1], g.sc(nfwSlotR))
+	op("VMOVUPD", r[1], g.sc(nfwSlotRatio))
+}
+
+// nfwSqrt: s = √(1 − x²).
+func nfwSqrt(g group) {
+	r := g.r
+	op("VMOVUPD", g.sc(nfwSlotXx), r[5])
 	mul(r[1], r[5], r[5])
 	op("VMOVUPD", k("one"), r[0])
 	sub(r[0], r[0], r[1])
-	op("VSQRTPD", r[0], r[0]) // s
-	add(r[6], r[0], k("one")) // p
+	op("VSQRTPD", r[0], r[0])
+	op("VMOVUPD", r[0], g.sc(nfwSlotSq))
+}
+
+// nfwLogReduce: the log's reduction to k and s.
+func nfwLogReduce(g group) {
+	r := g.r
+	op("VMOVUPD", g.sc(nfwSlotRatio), r[1])
+	logReduce(r[1], r[0], r[2], r[3])
+	op("VMOVUPD", r[0], g.sc(nfwSlotK))
+	op("VMOVUPD", r[2], g.sc(nfwSlotLs))
+}
+
+// nfwPD sets p = s + 1 in r6, x² in r1 and d = 4p − x² in r2, with s in
+// r0 and x in r5.
+func nfwPD(g group) {
+	r := g.r
+	op("VMOVUPD", g.sc(nfwSlotSq), r[0])
+	op("VMOVUPD", g.sc(nfwSlotXx), r[5])
+	mul(r[1], r[5], r[5])
+	add(r[6], r[0], k("one"))
 	mul(r[2], r[6], k("four"))
-	sub(r[2], r[2], r[1]) // d
-	// One division: inv = 1/(s p d), z = x² s p inv = x²/d.
+	sub(r[2], r[2], r[1])
+}
+
+// nfwInverse: inv = 1/(s p d).
+func nfwInverse(g group) {
+	r := g.r
+	nfwPD(g)
 	mul(r[3], r[0], r[6])
 	mul(r[4], r[3], r[2])
 	op("VMOVUPD", k("one"), r[5])
 	div(r[5], r[5], r[4])
+	op("VMOVUPD", r[5], g.sc(nfwSlotInv))
+}
+
+// nfwLogPoly: L = ln(2 r_s/R).
+func nfwLogPoly(g group) {
+	r := g.r
+	op("VMOVUPD", g.sc(nfwSlotLs), r[2])
+	op("VMOVUPD", g.sc(nfwSlotK), r[0])
+	logPoly(r[7], r[1], r[4], r[0], r[2], r[3], r[6])
+	op("VMOVUPD", r[7], g.sc(nfwSlotL))
+}
+
+// nfwSeries: z = x² s p inv = x²/d and S.
+func nfwSeries(g group) {
+	r := g.r
+	nfwPD(g)
+	mul(r[3], r[0], r[6])
 	mul(r[1], r[1], r[3])
-	mul(r[1], r[1], r[5])
+	mul(r[1], r[1], g.sc(nfwSlotInv))
 	mul(r[1], r[1], r[1])
 	op("VMOVUPD", k("inv17"), r[3])
 	for j := 7; j >= 0; j-- {
 		fma213(r[3], r[1], k(fmt.Sprintf("inv%d", 2*j+1)))
 	}
-	// num = L d − 2 S p, 4κ_s h/x² = 4κ_s num inv.
+	op("VMOVUPD", r[3], g.sc(nfwSlotSum))
+}
+
+// nfwCombine: num = L d − 2 S p, 4κ_s h/x² = 4κ_s num inv (0 at R = 0),
+// the deflection (a1 x', a2 y') 4κ_s h/x², the rotation back and the sum.
+func nfwCombine(g group) {
+	r := g.r
+	nfwPD(g)
+	op("VMOVUPD", g.sc(nfwSlotL), r[7])
+	op("VMOVUPD", g.sc(nfwSlotSum), r[3])
 	mul(r[7], r[7], r[2])
 	add(r[3], r[3], r[3])
 	fnma231(r[7], r[3], r[6])
-	mul(r[7], r[7], r[5])
+	mul(r[7], r[7], g.sc(nfwSlotInv))
 	mul(r[7], r[7], p(8))
-	and(r[7], r[7], g.slot(2))
-	op("VMOVUPD", g.slot(0), r[2])
+	op("VXORPD", r[0], r[0], r[0])
+	cmp(r[0], r[0], g.sc(nfwSlotR), predNEQ)
+	and(r[7], r[7], r[0])
+	op("VMOVUPD", g.sc(nfwSlotX), r[2])
 	mul(r[2], r[2], p(4))
 	mul(r[2], r[2], r[7])
-	op("VMOVUPD", g.slot(1), r[3])
+	op("VMOVUPD", g.sc(nfwSlotY), r[3])
 	mul(r[3], r[3], p(5))
 	mul(r[3], r[3], r[7])
 	accumulate(g, r[2], r[3], r[0], r[1])
@@ -668,7 +766,9 @@ func shear() {
 		add(r(4), r(4), at("R10"))
 		op("VMOVUPD", r(4), at("R10"))
 	}
-	footer(name)
+	op("ADDQ", "$8", "BX")
+	op("CMPQ", "BX", "CX")
+	fmt.Fprintf(&b, "\tJLT %s_loop\n%s_done:\n", name, name)
 	op("VZEROUPPER")
 	op("RET")
 }
