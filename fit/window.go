@@ -82,9 +82,11 @@ func renderWindow(g uv.Grid, lens lensmodel.Lens, comps []source.Component, dx, 
 			if i == n-1 {
 				kn = k - 1
 			}
-			foot := math.Hypot(bx[kn]-bx[k], by[kn]-by[k])
+			fx, fy := bx[kn]-bx[k], by[kn]-by[k]
+			foot := math.Sqrt(fx*fx + fy*fy)
 			for _, d := range ds {
-				if math.Hypot(bx[k]-d.x, by[k]-d.y) <= d.r+foot {
+				ex, ey := bx[k]-d.x, by[k]-d.y
+				if ex*ex+ey*ey <= (d.r+foot)*(d.r+foot) {
 					imin, imax = min(imin, i), max(imax, i)
 					jmin, jmax = min(jmin, j), max(jmax, j)
 					break

@@ -215,3 +215,66 @@ func TestPolarFinderSIS(t *testing.T) {
 		})
 	}
 }
+
+// TestRenderPixelTolerance checks each pixel's flux against a rendering a
+// thousand times tighter: the error of a pixel, accepted from its centre ray
+// alone or refined, stays within a few times its tolerance
+// tol·max(|F_pix|, tol·F/N²) (common practice for adaptive quadrature: the
+// error estimate is good to a small factor), with pixels accepted from
+// their centre ray alone and with every pixel refined.
+func TestRenderPixelTolerance(t *testing.T) {
+	g := testGrid{n: 64, pixel: 0.05}
+	lens := lensmodel.Lens{lensmodel.SIE{X: 0.02, ThetaE: 0.8, Q: 0.75, PA: 35}, lensmodel.Shear{Gamma: 0.05, Angle: 110}}
+	for _, tc := range []struct {
+		name string
+		c    Component
+	}{
+		{"Sérsic n=1", Sersic{X: 0.05, Y: 0.04, Flux: 4e-3, Reff: 0.12, N: 1, Q: 0.7, PA: -20}},
+		{"Sérsic n=2.5", Sersic{X: -0.1, Y: 0.06, Flux: 4e-3, Reff: 0.08, N: 2.5, Q: 0.6, PA: 40}},
+		{"Gaussian", Gaussian{X: 0.2, Y: -0.1, Flux: 1e-3, FWHM: 0.15, Q: 0.5, PA: 10}},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			src := Source{Components: []Component{tc.c}}
+			const tol = 1e-2
+			ref, _ := Render(nil, g, lens, src, RenderOptions{Tol: tol / 100})
+			floor := tol * tc.c.TotalFlux() / float64(g.n*g.n)
+			for _, one := range []bool{true, false} {
+				oneRay = one
+				img, st := Render(nil, g, lens, src, RenderOptions{Tol: tol})
+				oneRay = true
+				var worst float64
+				for k := range img {
+					worst = max(worst, math.Abs(img[k]-ref[k])/(tol*max(math.Abs(ref[k]), floor)))
+				}
+				rays := float64(st.Rays) / float64(g.n*g.n)
+				t.Logf("one-ray pixels %v: worst pixel error %.2f × its tolerance, %.2f rays per pixel, total flux rel diff %.2g", one, worst, rays, sum(img)/sum(ref)-1)
+				if worst > 3 {
+					t.Errorf("one-ray pixels %v: worst pixel error %.2f × its tolerance, want ≤ 3", one, worst)
+				}
+				within(t, "total flux", sum(img), sum(ref), tol/10)
+			}
+		})
+	}
+}
+
+// TestRenderOneRay checks that on a grid where the lensed source covers a
+// small part of the field, as in a fit, most pixels take their centre ray
+// alone, and that the image stays within the tolerance of one refined
+// everywhere.
+func TestRenderOneRay(t *testing.T) {
+	g := testGrid{n: 128, pixel: 0.04}
+	lens := lensmodel.Lens{lensmodel.SIE{X: 0.02, ThetaE: 0.8, Q: 0.75, PA: 35}, lensmodel.Shear{Gamma: 0.05, Angle: 110}}
+	c := Sersic{X: 0.05, Y: 0.04, Flux: 4e-3, Reff: 0.12, N: 1, Q: 0.7, PA: -20}
+	src := Source{Components: []Component{c}}
+	const tol = 3e-2
+	img, st := Render(nil, g, lens, src, RenderOptions{Tol: tol})
+	oneRay = false
+	all, stAll := Render(nil, g, lens, src, RenderOptions{Tol: tol})
+	oneRay = true
+	rays, raysAll := float64(st.Rays)/float64(g.n*g.n), float64(stAll.Rays)/float64(g.n*g.n)
+	t.Logf("%.2f rays per pixel, %.2f refining every pixel", rays, raysAll)
+	if rays > 2 || raysAll < 5 {
+		t.Errorf("%.2f rays per pixel (want ≤ 2), %.2f refining every pixel (want ≥ 5: centre and four quarters)", rays, raysAll)
+	}
+	within(t, "total flux", sum(img), sum(all), tol/10)
+}
