@@ -137,8 +137,7 @@ func sieOneGo(c *sieParams, x, y float64) (ax, ay float64) {
 }
 
 // nfwOneGo is nfwRadius and the passes nfwPasses of gen_fast.go for one
-// point; ok is
-// false outside the kernel's domain R < 0.8 r_s.
+// point; ok is false outside the kernel's domain R < 0.8 r_s.
 func nfwOneGo(c *nfwParams, x, y float64) (ax, ay float64, ok bool) {
 	sn, cs, a1, a2 := c[2], c[3], c[4], c[5]
 	xp, yp := rotateLocal(x, y, c[0], c[1], sn, cs)

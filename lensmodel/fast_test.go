@@ -213,3 +213,62 @@ func TestFastMirror(t *testing.T) {
 			func(x, y float64) (float64, float64, bool) { return nfwOneGo(&e.kp, x, y) })
 	}
 }
+
+// TestFastBlocks checks the kernels' passes over blocks of 128 points
+// (fast.go) against the one-point Go forms bit for bit: slice lengths about
+// multiples of the block, and NFW groups of eight outside the kernel's
+// domain R < 0.8 r_s at the start, inside and at the end of blocks, and in
+// runs, where the kernel ends its block and returns.
+func TestFastBlocks(t *testing.T) {
+	if !haveAVX {
+		t.Skip("no AVX2/FMA: no kernels")
+	}
+	rnd := rand.New(rand.NewPCG(6, 6))
+	es := SIE{X: 0.3, Y: 0.1, ThetaE: 0.9, Q: 0.7, PA: 40, Core: 0.02}.eval()
+	nm := NFW{X: 0.1, KappaS: 0.3, Rs: 1, Q: 0.9, PA: 30}
+	en := nm.eval()
+	// Points at radii below 0.7 r_s about the halo's centre are inside its
+	// kernel's domain (R ≤ √(1 + ε) r ≤ 0.72 r_s for q = 0.9).
+	inside := func(n int) (x, y []float64) {
+		x, y = make([]float64, n), make([]float64, n)
+		for i := range x {
+			r, phi := 0.7*math.Sqrt(rnd.Float64()), 2*math.Pi*rnd.Float64()
+			x[i], y[i] = nm.X+r*math.Cos(phi), nm.Y+r*math.Sin(phi)
+		}
+		return x, y
+	}
+	check := func(name string, x, y []float64, batch func(ax, ay, x, y []float64) int, one func(x, y float64) (float64, float64)) {
+		t.Helper()
+		ax, ay := make([]float64, len(x)), make([]float64, len(x))
+		if n := batch(ax, ay, x, y); n != len(x)&^7 {
+			t.Fatalf("%s, %d points: %d done, want %d", name, len(x), n, len(x)&^7)
+		}
+		for i := range len(x) &^ 7 {
+			wx, wy := one(x[i], y[i])
+			if math.Float64bits(ax[i]) != math.Float64bits(wx) || math.Float64bits(ay[i]) != math.Float64bits(wy) {
+				t.Fatalf("%s, %d points, point %d (%g, %g): batch (%v, %v), one point (%v, %v)", name, len(x), i, x[i], y[i], ax[i], ay[i], wx, wy)
+			}
+		}
+	}
+	sieOne := func(x, y float64) (float64, float64) { return sieOneGo(&es.kp, x, y) }
+	sieBatch := func(ax, ay, x, y []float64) int { return sieFast(&es, ax, ay, x, y) }
+	nfwBatch := func(ax, ay, x, y []float64) int { return nfwFast(&en, ax, ay, x, y) }
+	for _, n := range []int{8, 15, 120, 127, 128, 129, 136, 248, 256, 264, 1000} {
+		x, y := inside(n)
+		check("sie", x, y, sieBatch, sieOne)
+		check("nfw inside", x, y, nfwBatch, en.deflect)
+	}
+	// One point at 2 r_s in each of the groups starting at these indices
+	// (blocks of 128 from the start of each kernel call).
+	for _, bad := range [][]int{{0}, {8}, {120}, {128}, {0, 8, 16}, {120, 128}, {248, 256, 264}, {504}, {200, 456}} {
+		x, y := inside(512)
+		for _, g := range bad {
+			i := g + rnd.IntN(8)
+			x[i], y[i] = nm.X+2, nm.Y
+			if _, _, ok := nfwOneGo(&en.kp, x[i], y[i]); ok {
+				t.Fatalf("point (%g, %g) inside the NFW kernel's domain", x[i], y[i])
+			}
+		}
+		check("nfw", x, y, nfwBatch, en.deflect)
+	}
+}
