@@ -550,6 +550,10 @@ const (
 	nfwSlotK            // the log's k
 	nfwSlotLs           // the log's s
 	nfwSlotInv          // 1/(s p d)
+	nfwSlotX2           // x²
+	nfwSlotP            // p = 1 + s
+	nfwSlotD            // d = 4p − x²
+	nfwSlotSP           // s p
 	nfwSlotL            // L = ln(2 r_s/R)
 	nfwSlotSum          // S
 	nfwSlots
@@ -658,23 +662,20 @@ func nfwLogReduce(g group) {
 	op("VMOVUPD", r[2], g.sc(nfwSlotLs))
 }
 
-// nfwPD sets p = s + 1 in r6, x² in r1 and d = 4p − x² in r2, with s in
-// r0 and x in r5.
-func nfwPD(g group) {
+// nfwInverse: p = 1 + s, d = 4p − x², s p and inv = 1/(s p d).
+func nfwInverse(g group) {
 	r := g.r
 	op("VMOVUPD", g.sc(nfwSlotSq), r[0])
 	op("VMOVUPD", g.sc(nfwSlotXx), r[5])
 	mul(r[1], r[5], r[5])
+	op("VMOVUPD", r[1], g.sc(nfwSlotX2))
 	add(r[6], r[0], k("one"))
+	op("VMOVUPD", r[6], g.sc(nfwSlotP))
 	mul(r[2], r[6], k("four"))
 	sub(r[2], r[2], r[1])
-}
-
-// nfwInverse: inv = 1/(s p d).
-func nfwInverse(g group) {
-	r := g.r
-	nfwPD(g)
+	op("VMOVUPD", r[2], g.sc(nfwSlotD))
 	mul(r[3], r[0], r[6])
+	op("VMOVUPD", r[3], g.sc(nfwSlotSP))
 	mul(r[4], r[3], r[2])
 	op("VMOVUPD", k("one"), r[5])
 	div(r[5], r[5], r[4])
@@ -693,9 +694,8 @@ func nfwLogPoly(g group) {
 // nfwSeries: z = x² s p inv = x²/d and S.
 func nfwSeries(g group) {
 	r := g.r
-	nfwPD(g)
-	mul(r[3], r[0], r[6])
-	mul(r[1], r[1], r[3])
+	op("VMOVUPD", g.sc(nfwSlotX2), r[1])
+	mul(r[1], r[1], g.sc(nfwSlotSP))
 	mul(r[1], r[1], g.sc(nfwSlotInv))
 	mul(r[1], r[1], r[1])
 	op("VMOVUPD", k("inv17"), r[3])
@@ -709,12 +709,11 @@ func nfwSeries(g group) {
 // the deflection (a1 x', a2 y') 4κ_s h/x², the rotation back and the sum.
 func nfwCombine(g group) {
 	r := g.r
-	nfwPD(g)
 	op("VMOVUPD", g.sc(nfwSlotL), r[7])
 	op("VMOVUPD", g.sc(nfwSlotSum), r[3])
-	mul(r[7], r[7], r[2])
+	mul(r[7], r[7], g.sc(nfwSlotD))
 	add(r[3], r[3], r[3])
-	fnma231(r[7], r[3], r[6])
+	fnma231(r[7], r[3], g.sc(nfwSlotP))
 	mul(r[7], r[7], g.sc(nfwSlotInv))
 	mul(r[7], r[7], p(8))
 	op("VXORPD", r[0], r[0], r[0])
