@@ -7,7 +7,7 @@ package lensmodel
 // two interleaved groups of four; elsewhere the per-point formulas are used.
 // The SIE and NFW kernels take the points in blocks of 128 and make several
 // passes over each block (loop fission), handing values on through scratch
-// arrays in the kernel's frame (10 and 14 KiB, in the first-level cache). In
+// arrays in the kernel's frame (10 and 15 KiB, in the first-level cache). In
 // one pass, the dependency chain of a group of four points (a square root
 // and several divisions in sequence) is longer than the floating-point
 // scheduler can hold, and the loop waits on latencies; each pass is a short
