@@ -179,9 +179,35 @@ func (p PreparedSersic) Brightness(x, y float64) float64 {
 	case 0.5:
 		t = r2
 	default:
-		t = math.Pow(r2, 0.5/p.s.N)
+		// r2^(1/2n) as exp(ln(r2)/2n): within an ulp or two of math.Pow
+		// at a third of its cost; r2 = 0 gives 0 and +Inf gives +Inf.
+		t = math.Exp(math.Log(r2) * (0.5 / p.s.N))
 	}
 	return p.ie * math.Exp(-p.b*(t-1))
+}
+
+// addBrightness adds f times the surface brightness at (x[i], y[i]) to
+// v[i], the values of f·Brightness computed the same way.
+func (p PreparedSersic) addBrightness(v, x, y []float64, f float64) {
+	y = y[:len(x)]
+	v = v[:len(x)]
+	x0, y0, sn, cs, q := p.s.X, p.s.Y, p.sin, p.cos, p.s.Q
+	re2 := p.s.Reff * p.s.Reff
+	b, ie := p.b, p.ie
+	switch n := p.s.N; n {
+	case 1:
+		for i, xi := range x {
+			dx, dy := xi-x0, y[i]-y0
+			xp := dx*sn + dy*cs
+			yp := (-dx*cs + dy*sn) / q
+			t := math.Sqrt((xp*xp + yp*yp) / re2)
+			v[i] += f * (ie * math.Exp(-b*(t-1)))
+		}
+	default:
+		for i, xi := range x {
+			v[i] += f * p.Brightness(xi, y[i])
+		}
+	}
 }
 
 // Gaussian is an elliptical Gaussian

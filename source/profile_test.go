@@ -3,6 +3,7 @@ package source
 import (
 	"fmt"
 	"math"
+	"math/rand/v2"
 	"testing"
 )
 
@@ -216,5 +217,30 @@ func TestValidate(t *testing.T) {
 				t.Errorf("error %v, want %q", err, tc.want)
 			}
 		})
+	}
+}
+
+// TestSersicBatchBrightness checks that the batch form used by Render gives
+// f·Brightness bit for bit.
+func TestSersicBatchBrightness(t *testing.T) {
+	rnd := rand.New(rand.NewPCG(4, 4))
+	for _, s := range []Sersic{
+		{X: 0.1, Y: -0.2, Flux: 2e-3, Reff: 0.2, N: 1, Q: 0.6, PA: 35},
+		{X: -0.3, Flux: 1, Reff: 0.05, N: 4, Q: 0.9, PA: -70},
+		{Flux: 1, Reff: 0.3, N: 0.5, Q: 0.4, PA: 10},
+	} {
+		p := s.Prepare()
+		n := 257
+		x, y, v := make([]float64, n), make([]float64, n), make([]float64, n)
+		for i := range x {
+			x[i], y[i] = 2*rnd.Float64()-1, 2*rnd.Float64()-1
+		}
+		const f = 0.7
+		p.addBrightness(v, x, y, f)
+		for i := range x {
+			if want := f * p.Brightness(x[i], y[i]); v[i] != want {
+				t.Fatalf("%+v at (%g, %g): batch %v, Brightness %v", s, x[i], y[i], v[i], want)
+			}
+		}
 	}
 }

@@ -137,13 +137,7 @@ func (c *centres) trace(r *renderer) {
 	}
 	r.trace(c.bx, c.by, c.x, c.y)
 	par.Ranges(m, 1024, func(_, lo, hi int) {
-		for k := lo; k < hi; k++ {
-			var b float64
-			for _, f := range r.comps {
-				b += f(c.bx[k], c.by[k])
-			}
-			c.v[k] = b
-		}
+		r.brightness(c.v[lo:hi], c.bx[lo:hi], c.by[lo:hi])
 	})
 }
 
@@ -175,9 +169,9 @@ func (r *renderer) smooth(k int) (flux float64, ok bool) {
 	return r.area * (vc + lap/24), true
 }
 
-// brightFunc is a component's surface brightness in Jy/arcsec² at the
-// rendering frequency.
-type brightFunc func(x, y float64) float64
+// brightFunc adds a component's surface brightness in Jy/arcsec² at the
+// rendering frequency at (x[i], y[i]) to v[i].
+type brightFunc func(v, x, y []float64)
 
 type compInfo struct {
 	x, y, scale float64
@@ -247,21 +241,31 @@ func prepare(c Component, f float64) brightFunc {
 	switch c := c.(type) {
 	case Sersic:
 		p := c.Prepare()
-		return func(x, y float64) float64 { return f * p.Brightness(x, y) }
+		return func(v, x, y []float64) { p.addBrightness(v, x, y, f) }
 	case Gaussian:
 		c.check()
 		sig := c.FWHM / fwhmPerSigma
 		s, cs := math.Sincos(c.PA * math.Pi / 180)
 		norm := f * c.Flux / (2 * math.Pi * sig * sig * c.Q)
 		k := -1 / (2 * sig * sig)
-		return func(x, y float64) float64 {
-			dx, dy := x-c.X, y-c.Y
-			xp := dx*s + dy*cs
-			yp := (-dx*cs + dy*s) / c.Q
-			return norm * math.Exp(k*(xp*xp+yp*yp))
+		return func(v, x, y []float64) {
+			y = y[:len(x)]
+			v = v[:len(x)]
+			for i, xi := range x {
+				dx, dy := xi-c.X, y[i]-c.Y
+				xp := dx*s + dy*cs
+				yp := (-dx*cs + dy*s) / c.Q
+				v[i] += norm * math.Exp(k*(xp*xp+yp*yp))
+			}
 		}
 	default:
-		return func(x, y float64) float64 { return f * c.Brightness(x, y) }
+		return func(v, x, y []float64) {
+			y = y[:len(x)]
+			v = v[:len(x)]
+			for i, xi := range x {
+				v[i] += f * c.Brightness(xi, y[i])
+			}
+		}
 	}
 }
 
@@ -286,22 +290,20 @@ func (r *renderer) newWorker() *worker {
 	return &worker{r: r, tolPix: make([]float64, r.n)}
 }
 
-func (w *worker) bright(x, y float64) float64 {
-	var b float64
-	for _, f := range w.r.comps {
-		b += f(x, y)
-	}
-	return b
-}
-
 // traceAll ray-traces the first m positions of w.x, w.y into w.bx, w.by and
 // evaluates the brightness there into w.v.
 func (w *worker) traceAll(m int) {
 	w.r.trace(w.bx[:m], w.by[:m], w.x[:m], w.y[:m])
-	for k := range m {
-		w.v[k] = w.bright(w.bx[k], w.by[k])
-	}
+	w.r.brightness(w.v[:m], w.bx[:m], w.by[:m])
 	w.rays += m
+}
+
+// brightness sets v[i] to the brightness of all components at (x[i], y[i]).
+func (r *renderer) brightness(v, x, y []float64) {
+	clear(v)
+	for _, f := range r.comps {
+		f(v, x, y)
+	}
 }
 
 func (w *worker) grow(m int) {
