@@ -68,6 +68,39 @@ func (f *fftPow2) forward(x []complex128, half bool) {
 		}
 		h /= 2
 	}
+	// Two stages at a time (half-lengths h and h/2) in one pass over
+	// each block of 2h values: the same butterflies and twiddles as the
+	// stages one by one, so the same values, with half the passes over
+	// memory.
+	for ; h >= 4; h /= 4 {
+		q := h / 2
+		tw1 := f.tw[h-1 : 2*h-1]
+		tw2 := f.tw[q-1 : 2*q-1]
+		for s := 0; s < n; s += 2 * h {
+			x0, x1 := x[s:s+q], x[s+q:s+h]
+			x2, x3 := x[s+h:s+h+q], x[s+h+q:s+2*h]
+			x1, x2, x3 = x1[:len(x0)], x2[:len(x0)], x3[:len(x0)]
+			wa, wb, wc := tw1[:len(x0)], tw1[q:q+len(x0)], tw2[:len(x0)]
+			for k := range x0 {
+				a0, a1, a2, a3 := x0[k], x1[k], x2[k], x3[k]
+				w := wa[k]
+				dr, di := real(a0)-real(a2), imag(a0)-imag(a2)
+				b0 := complex(real(a0)+real(a2), imag(a0)+imag(a2))
+				b2 := complex(dr*real(w)-di*imag(w), dr*imag(w)+di*real(w))
+				w = wb[k]
+				dr, di = real(a1)-real(a3), imag(a1)-imag(a3)
+				b1 := complex(real(a1)+real(a3), imag(a1)+imag(a3))
+				b3 := complex(dr*real(w)-di*imag(w), dr*imag(w)+di*real(w))
+				w = wc[k]
+				dr, di = real(b0)-real(b1), imag(b0)-imag(b1)
+				x0[k] = complex(real(b0)+real(b1), imag(b0)+imag(b1))
+				x1[k] = complex(dr*real(w)-di*imag(w), dr*imag(w)+di*real(w))
+				dr, di = real(b2)-real(b3), imag(b2)-imag(b3)
+				x2[k] = complex(real(b2)+real(b3), imag(b2)+imag(b3))
+				x3[k] = complex(dr*real(w)-di*imag(w), dr*imag(w)+di*real(w))
+			}
+		}
+	}
 	for ; h >= 2; h /= 2 {
 		tw := f.tw[h-1 : 2*h-1]
 		for s := 0; s < n; s += 2 * h {

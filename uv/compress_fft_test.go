@@ -22,7 +22,7 @@ func naiveDFT(x []complex128, sign float64) []complex128 {
 // The power-of-two FFT against the definition of the DFT, to 1e-12.
 func TestFFTPow2(t *testing.T) {
 	rnd := rand.New(rand.NewPCG(1, 9))
-	for _, n := range []int{2, 4, 8, 32, 128} {
+	for _, n := range []int{2, 4, 8, 16, 32, 64, 128, 256} {
 		f := newFFTPow2(n)
 		for _, half := range []bool{false, true} {
 			x := make([]complex128, n)
