@@ -51,14 +51,18 @@ func (w window) Centre(k int) (x, y float64) {
 
 // renderWindow returns the smallest square window of g (padded by three
 // pixels) containing every pixel whose centre traces, through lens, to
-// within a component's extent (plus the pixel's own footprint, bounded by
-// |β − β_neighbour|) of an extended source component; ok is false when
-// nothing lands there. trace holds 2 N² scratch values.
+// within a component's extent (plus the pixel's own footprint) of an
+// extended source component; ok is false when nothing lands there. The
+// lens is traced at every other pixel in each direction: a traced centre
+// stands for its block of 2×2 pixels, and its footprint, the distance to
+// the traced position of the next traced centre (two pixels away), covers
+// the block. trace holds 2 N² scratch values.
 func renderWindow(g uv.Grid, lens lensmodel.Lens, comps []source.Component, dx, dy float64, trace []float64) (w window, ok bool) {
 	n := g.N
-	bx, by := trace[:n*n], trace[n*n:2*n*n]
+	m := (n + 1) / 2
+	bx, by := trace[:m*m], trace[m*m:2*m*m]
 	x0, y0 := g.XY(0, 0)
-	lens.TraceGrid(bx, by, x0-dx, y0-dy, -g.Pixel, g.Pixel, n, n)
+	lens.TraceGrid(bx, by, x0-dx, y0-dy, -2*g.Pixel, 2*g.Pixel, m, m)
 	type disk struct{ x, y, r float64 }
 	var ds []disk
 	for _, c := range comps {
@@ -73,22 +77,27 @@ func renderWindow(g uv.Grid, lens lensmodel.Lens, comps []source.Component, dx, 
 		return window{}, false
 	}
 	imin, imax, jmin, jmax := n, -1, n, -1
-	for j := range n {
-		for i := range n {
-			k := j*n + i
-			// The pixel's footprint: the distance to the traced
-			// position of a neighbour.
-			kn := k + 1
-			if i == n-1 {
-				kn = k - 1
+	for cj := range m {
+		for ci := range m {
+			k := cj*m + ci
+			// The block's footprint: the distance to the traced
+			// position of the next traced centre along x or y.
+			kx, ky := k+1, k+m
+			if ci == m-1 {
+				kx = k - 1
 			}
-			fx, fy := bx[kn]-bx[k], by[kn]-by[k]
-			foot := math.Sqrt(fx*fx + fy*fy)
+			if cj == m-1 {
+				ky = k - m
+			}
+			fx, fy := bx[kx]-bx[k], by[kx]-by[k]
+			gx, gy := bx[ky]-bx[k], by[ky]-by[k]
+			foot := math.Sqrt(max(fx*fx+fy*fy, gx*gx+gy*gy))
 			for _, d := range ds {
 				ex, ey := bx[k]-d.x, by[k]-d.y
 				if ex*ex+ey*ey <= (d.r+foot)*(d.r+foot) {
-					imin, imax = min(imin, i), max(imax, i)
-					jmin, jmax = min(jmin, j), max(jmax, j)
+					i, j := 2*ci, 2*cj
+					imin, imax = min(imin, i), max(imax, min(i+1, n-1))
+					jmin, jmax = min(jmin, j), max(jmax, min(j+1, n-1))
 					break
 				}
 			}

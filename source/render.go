@@ -141,32 +141,65 @@ func (c *centres) trace(r *renderer) {
 	})
 }
 
-// smooth reports whether the interior pixel k can be done with its centre
-// ray alone (see Render), and returns its flux a (I_c + (D_xx + D_yy)/24)
-// in Jy then.
-func (r *renderer) smooth(k int) (flux float64, ok bool) {
+// smoothRow sets done[i] for the pixels of interior row j that can be done
+// with their centre ray alone (see Render), and out[i] to their flux
+// a (I_c + (D_xx + D_yy)/24) in Jy; the first and last pixels are never
+// done so.
+func (r *renderer) smoothRow(out []float64, done []bool, j int) {
 	c, n := r.c, r.n
-	vc := c.v[k]
-	dxx := c.v[k-1] + c.v[k+1] - 2*vc
-	dyy := c.v[k-n] + c.v[k+n] - 2*vc
-	tolPix := r.tol * max(math.Abs(vc)*r.area, r.floor)
-	if !((math.Abs(dxx)+math.Abs(dyy))/24*r.area <= tolPix) {
-		return 0, false
-	}
-	lap := dxx + dyy
-	bx, by := c.bx[k], c.by[k]
-	var ext2 float64
-	for _, nb := range [4]int{k - 1, k + 1, k - n, k + n} {
-		dx, dy := c.bx[nb]-bx, c.by[nb]-by
-		ext2 = max(ext2, dx*dx+dy*dy)
-	}
-	for _, ci := range r.info {
-		dx, dy := bx-ci.x, by-ci.y
-		if !(ext2 <= max(ci.scale*ci.scale, (dx*dx+dy*dy)/4)) {
-			return 0, false
+	k0 := j * n
+	v0, v1, v2 := c.v[k0-n:k0], c.v[k0:k0+n], c.v[k0+n:k0+2*n]
+	x0, x1, x2 := c.bx[k0-n:k0], c.bx[k0:k0+n], c.bx[k0+n:k0+2*n]
+	y0, y1, y2 := c.by[k0-n:k0], c.by[k0:k0+n], c.by[k0+n:k0+2*n]
+	out, done = out[:n], done[:n]
+	done[0], done[n-1] = false, false
+	area, area24, tol, floor := r.area, r.area24, r.tol, r.floor
+	for i := 1; i < n-1; i++ {
+		done[i] = false
+		vc := v1[i]
+		dxx := v1[i-1] + v1[i+1] - 2*vc
+		dyy := v0[i] + v2[i] - 2*vc
+		// a (|D_xx| + |D_yy|)/24 ≤ tol max(|I_c| a, floor).
+		lim := math.Abs(vc) * area
+		if lim < floor {
+			lim = floor
+		}
+		if !((math.Abs(dxx)+math.Abs(dyy))*area24 <= tol*lim) {
+			continue
+		}
+		// The footprint: the largest squared distance to a neighbour's
+		// traced position (a NaN fails the final comparison).
+		bx, by := x1[i], y1[i]
+		ex, ey := x1[i-1]-bx, y1[i-1]-by
+		ext2 := ex*ex + ey*ey
+		ex, ey = x1[i+1]-bx, y1[i+1]-by
+		if d2 := ex*ex + ey*ey; !(d2 <= ext2) {
+			ext2 = d2
+		}
+		ex, ey = x0[i]-bx, y0[i]-by
+		if d2 := ex*ex + ey*ey; !(d2 <= ext2) {
+			ext2 = d2
+		}
+		ex, ey = x2[i]-bx, y2[i]-by
+		if d2 := ex*ex + ey*ey; !(d2 <= ext2) {
+			ext2 = d2
+		}
+		if !(ext2 < math.Inf(1)) {
+			continue
+		}
+		ok := true
+		for _, ci := range r.info {
+			dx, dy := bx-ci.x, by-ci.y
+			if ext2 > ci.scale2 && 4*ext2 > dx*dx+dy*dy {
+				ok = false
+				break
+			}
+		}
+		if ok {
+			out[i] = area * (vc + (dxx+dyy)/24)
+			done[i] = true
 		}
 	}
-	return r.area * (vc + lap/24), true
 }
 
 // brightFunc adds a component's surface brightness in Jy/arcsec² at the
@@ -174,7 +207,7 @@ func (r *renderer) smooth(k int) (flux float64, ok bool) {
 type brightFunc func(v, x, y []float64)
 
 type compInfo struct {
-	x, y, scale float64
+	x, y, scale, scale2 float64 // scale2 = scale²
 }
 
 type renderer struct {
@@ -187,6 +220,7 @@ type renderer struct {
 	maxDepth int
 	floor    float64 // absolute tolerance floor per pixel, Jy
 	area     float64 // pixel area, arcsec²
+	area24   float64 // area/24
 	c        *centres
 }
 
@@ -209,6 +243,7 @@ func newRenderer(pix Pixels, lens lensmodel.Mass, src Source, opt RenderOptions)
 		panic(fmt.Sprintf("source: pixel size %v is not positive", p))
 	}
 	r.area = p * p
+	r.area24 = r.area / 24
 	var flux float64
 	for _, c := range src.Components {
 		if _, ok := c.(Point); ok {
@@ -217,7 +252,8 @@ func newRenderer(pix Pixels, lens lensmodel.Mass, src Source, opt RenderOptions)
 		f := src.SpectralFactor(c.SpectralIndex(), opt.Freq)
 		flux += math.Abs(c.TotalFlux() * f)
 		cx, cy := c.Centre()
-		r.info = append(r.info, compInfo{cx, cy, c.Scale()})
+		sc := c.Scale()
+		r.info = append(r.info, compInfo{cx, cy, sc, sc * sc})
 		r.comps = append(r.comps, prepare(c, f))
 	}
 	r.floor = r.tol * flux / float64(r.n*r.n)
@@ -283,6 +319,7 @@ type worker struct {
 	x, y, bx, by []float64
 	v            []float64
 	tolPix       []float64
+	done         []bool
 	rays, depth  int
 }
 
@@ -323,13 +360,19 @@ func (w *worker) row(out []float64, j int) {
 	h := r.pix.PixelSize() / 2
 	ctr := r.c
 	w.cells = w.cells[:0]
+	if len(w.done) < n {
+		w.done = make([]bool, n)
+	}
+	done := w.done[:n]
+	if oneRay && j > 0 && j < n-1 {
+		r.smoothRow(out, done, j)
+	} else {
+		clear(done)
+	}
 	for i := range n {
 		k := j*n + i
-		if oneRay && i > 0 && i < n-1 && j > 0 && j < n-1 {
-			if f, ok := r.smooth(k); ok {
-				out[i] = f
-				continue
-			}
+		if done[i] {
+			continue
 		}
 		w.cells = append(w.cells, cell{pix: i, x: ctr.x[k], y: ctr.y[k], h: h, v: ctr.v[k], bx: ctr.bx[k], by: ctr.by[k]})
 		out[i] = 0
@@ -381,7 +424,7 @@ func (w *worker) unresolved(k int, ce cell) bool {
 	ext2 *= 4 // (2 max |Δβ|)²
 	for _, c := range w.r.info {
 		dx, dy := ce.bx-c.x, ce.by-c.y
-		if ext2 > max(c.scale*c.scale, (dx*dx+dy*dy)/4) {
+		if ext2 > c.scale2 && 4*ext2 > dx*dx+dy*dy {
 			return true
 		}
 	}
