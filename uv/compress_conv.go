@@ -18,7 +18,7 @@ import "sync"
 // the box, padded; b̂ depends only on (Px, Py) and is cached per size.
 
 // beamSpectrum is the FFT b̂ of the circularly laid out dirty beam for one
-// padded size (powers of two), and a pool of scratch space for transforms of
+// padded size (2^k or 3·2^k), and a pool of scratch space for transforms of
 // that size.
 type beamSpectrum struct {
 	px, py int
@@ -29,7 +29,7 @@ type beamSpectrum struct {
 
 // convWork is the scratch space of one transform of size px × py.
 type convWork struct {
-	fx, fy *fftPow2
+	fx, fy *fftPlan
 	t      []complex128 // py rows of nx coefficients, t[y·nx + kx]
 	x      []complex128
 	col    []complex128
@@ -39,8 +39,8 @@ type convWork struct {
 func newConvWork(px, py int) *convWork {
 	nx := px/2 + 1
 	return &convWork{
-		fx:  newFFTPow2(px),
-		fy:  newFFTPow2(py),
+		fx:  newFFTPlan(px),
+		fy:  newFFTPlan(py),
 		t:   make([]complex128, py*nx),
 		x:   make([]complex128, max(px, py)),
 		col: make([]complex128, py),
@@ -140,7 +140,7 @@ func supportBox(img []float64, n int) box {
 func (c *Compressed) quadratic(ap []float64, bx box) float64 {
 	n := c.grid.N
 	wx, wy := bx.i1-bx.i0, bx.j1-bx.j0
-	s := c.spectrum(nextPow2(2*wx-1), nextPow2(2*wy-1))
+	s := c.spectrum(nextFFTSize(2*wx-1), nextFFTSize(2*wy-1))
 	w := s.pool.Get().(*convWork)
 	defer s.pool.Put(w)
 	nx, py := s.nx, s.py

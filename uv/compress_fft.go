@@ -52,6 +52,117 @@ func nextPow2(m int) int {
 	return n
 }
 
+// nextFFTSize returns the smallest length ≥ max(m, 2) of the form 2^k or
+// 3·2^k (k ≥ 1) that fftPlan transforms.
+func nextFFTSize(m int) int {
+	n := nextPow2(m)
+	if t := 3 * n / 4; t >= m && t%2 == 0 {
+		return t
+	}
+	return n
+}
+
+// fftPlan is an in-place complex FFT of length n = m or 3m, m a power of
+// two, in the orders of fftPow2: the forward transform (sign −1) takes
+// natural order to the digit-reversed order rev (coefficient f at x[rev[f]])
+// and the inverse (sign +1, unnormalised) takes that order back to natural.
+// For n = 3m the forward transform is one radix-3 decimation-in-frequency
+// stage (Gentleman & Sande 1966) on the whole sequence, with twiddles
+// W_n^{qk}, W_n = exp(−2πi/n), followed by the power-of-two transform of
+// each third; coefficient f then lies in third f mod 3 at the bit-reversed
+// position of f div 3.
+type fftPlan struct {
+	n   int
+	rev []int32
+	p2  *fftPow2
+	tw3 []complex128 // n = 3m: W_n^k, W_n^{2k} at 2k, 2k + 1 for k < m
+}
+
+func newFFTPlan(n int) *fftPlan {
+	if n&(n-1) == 0 {
+		p := newFFTPow2(n)
+		return &fftPlan{n: n, rev: p.rev, p2: p}
+	}
+	m := n / 3
+	if n%3 != 0 || m < 2 || m&(m-1) != 0 {
+		panic("uv: FFT length is not 2^k or 3·2^k with k ≥ 1")
+	}
+	p := newFFTPow2(m)
+	f := &fftPlan{n: n, rev: make([]int32, n), p2: p, tw3: make([]complex128, 2*m)}
+	for k := range n {
+		f.rev[k] = int32(k%3*m) + p.rev[k/3]
+	}
+	for k := range m {
+		s, c := math.Sincos(-2 * math.Pi * float64(k) / float64(n))
+		f.tw3[2*k] = complex(c, s)
+		s, c = math.Sincos(-4 * math.Pi * float64(k) / float64(n))
+		f.tw3[2*k+1] = complex(c, s)
+	}
+	return f
+}
+
+// sin60 is sin(π/3) = √3/2.
+const sin60 = 0.86602540378443864676
+
+// forward transforms x in place, sign −1, output in the order rev. When
+// half is true the caller promises x[n/2:] is zero (used to prune the
+// power-of-two transform).
+func (f *fftPlan) forward(x []complex128, half bool) {
+	if f.tw3 == nil {
+		f.p2.forward(x, half)
+		return
+	}
+	m := f.p2.n
+	x0, x1, x2 := x[:m], x[m:2*m], x[2*m:3*m]
+	tw := f.tw3[:2*m]
+	for k := range x0 {
+		a0, a1, a2 := x0[k], x1[k], x2[k]
+		// y_q = Σ_j a_j ω^{jq}, ω = exp(−2πi/3) = −1/2 − i √3/2.
+		t1 := a1 + a2
+		t2 := a0 - 0.5*t1
+		d := a1 - a2
+		t3 := complex(sin60*imag(d), -sin60*real(d)) // −i (√3/2)(a1 − a2)
+		y1, y2 := t2+t3, t2-t3
+		w1, w2 := tw[2*k], tw[2*k+1]
+		x0[k] = a0 + t1
+		x1[k] = complex(real(y1)*real(w1)-imag(y1)*imag(w1), real(y1)*imag(w1)+imag(y1)*real(w1))
+		x2[k] = complex(real(y2)*real(w2)-imag(y2)*imag(w2), real(y2)*imag(w2)+imag(y2)*real(w2))
+	}
+	f.p2.forward(x0, false)
+	f.p2.forward(x1, false)
+	f.p2.forward(x2, false)
+}
+
+// inverse transforms x in place, sign +1, unnormalised, from the order rev
+// to natural order.
+func (f *fftPlan) inverse(x []complex128) {
+	if f.tw3 == nil {
+		f.p2.inverse(x)
+		return
+	}
+	m := f.p2.n
+	x0, x1, x2 := x[:m], x[m:2*m], x[2*m:3*m]
+	f.p2.inverse(x0)
+	f.p2.inverse(x1)
+	f.p2.inverse(x2)
+	tw := f.tw3[:2*m]
+	for k := range x0 {
+		w1, w2 := tw[2*k], tw[2*k+1]
+		b0, c1, c2 := x0[k], x1[k], x2[k]
+		// Undo the twiddles: b_q = c_q conj(W_n^{qk}).
+		b1 := complex(real(c1)*real(w1)+imag(c1)*imag(w1), imag(c1)*real(w1)-real(c1)*imag(w1))
+		b2 := complex(real(c2)*real(w2)+imag(c2)*imag(w2), imag(c2)*real(w2)-real(c2)*imag(w2))
+		// a_j = Σ_q b_q ω^{−jq}.
+		t1 := b1 + b2
+		t2 := b0 - 0.5*t1
+		d := b1 - b2
+		t3 := complex(-sin60*imag(d), sin60*real(d)) // +i (√3/2)(b1 − b2)
+		x0[k] = b0 + t1
+		x1[k] = t2 + t3
+		x2[k] = t2 - t3
+	}
+}
+
 // forward transforms x in place, sign −1, output in bit-reversed order.
 // When half is true the caller promises x[n/2:] is zero, and the first
 // stage is pruned accordingly.
@@ -158,7 +269,7 @@ func (f *fftPow2) inverse(x []complex128) {
 // −1, natural order) of the real sequences a and b (nil for zeros), using
 // one complex FFT of a + ib. x is scratch of length n. When half is true, a
 // and b are zero beyond n/2.
-func (f *fftPow2) realPair(ca, cb []complex128, a, b []float64, x []complex128, half bool) {
+func (f *fftPlan) realPair(ca, cb []complex128, a, b []float64, x []complex128, half bool) {
 	n := f.n
 	clear(x[:n])
 	for i, v := range a {
@@ -183,7 +294,7 @@ func (f *fftPow2) realPair(ca, cb []complex128, a, b []float64, x []complex128, 
 // realPairInverse sets a and b to the real sequences (unnormalised, sign
 // +1) whose first n/2 + 1 coefficients are ca and cb, with one complex FFT.
 // Only the first len(a) values are written; b may be nil.
-func (f *fftPow2) realPairInverse(a, b []float64, ca, cb []complex128, x []complex128) {
+func (f *fftPlan) realPairInverse(a, b []float64, ca, cb []complex128, x []complex128) {
 	n := f.n
 	for k := range n {
 		var za, zb complex128

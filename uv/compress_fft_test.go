@@ -22,8 +22,8 @@ func naiveDFT(x []complex128, sign float64) []complex128 {
 // The power-of-two FFT against the definition of the DFT, to 1e-12.
 func TestFFTPow2(t *testing.T) {
 	rnd := rand.New(rand.NewPCG(1, 9))
-	for _, n := range []int{2, 4, 8, 16, 32, 64, 128, 256} {
-		f := newFFTPow2(n)
+	for _, n := range []int{2, 4, 6, 8, 12, 16, 24, 32, 48, 64, 96, 128, 192, 256, 384} {
+		f := newFFTPlan(n)
 		for _, half := range []bool{false, true} {
 			x := make([]complex128, n)
 			for i := range x {
@@ -35,8 +35,9 @@ func TestFFTPow2(t *testing.T) {
 			y := append([]complex128(nil), x...)
 			f.forward(y, half)
 			for q := range y {
-				if cmplx.Abs(y[q]-want[f.rev[q]]) > 1e-12*float64(n) {
-					t.Fatalf("n=%d half=%v: coefficient %d = %v, want %v", n, half, f.rev[q], y[q], want[f.rev[q]])
+				// Coefficient q lies at rev[q].
+				if cmplx.Abs(y[f.rev[q]]-want[q]) > 1e-12*float64(n) {
+					t.Fatalf("n=%d half=%v: coefficient %d = %v, want %v", n, half, q, y[f.rev[q]], want[q])
 				}
 			}
 			f.inverse(y)
