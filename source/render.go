@@ -104,6 +104,7 @@ func Render(dst []float64, pix Pixels, lens lensmodel.Mass, src Source, opt Rend
 			stats.Rays += w.rays
 			stats.MaxDepth = max(stats.MaxDepth, w.depth)
 			mu.Unlock()
+			putWorker(w)
 		})
 	}
 	wg.Wait()
@@ -323,9 +324,30 @@ type worker struct {
 	rays, depth  int
 }
 
+// newWorker returns a worker for r, reusing the buffers of an earlier
+// Render's (see putWorker).
 func (r *renderer) newWorker() *worker {
-	return &worker{r: r, tolPix: make([]float64, r.n)}
+	w, _ := workerPool.Get().(*worker)
+	if w == nil {
+		w = new(worker)
+	}
+	w.r = r
+	if cap(w.tolPix) < r.n {
+		w.tolPix = make([]float64, r.n)
+	}
+	w.tolPix = w.tolPix[:r.n]
+	w.cells, w.next = w.cells[:0], w.next[:0]
+	w.rays, w.depth = 0, 0
+	return w
 }
+
+// putWorker returns w's buffers to the pool.
+func putWorker(w *worker) {
+	w.r = nil
+	workerPool.Put(w)
+}
+
+var workerPool sync.Pool
 
 // traceAll ray-traces the first m positions of w.x, w.y into w.bx, w.by and
 // evaluates the brightness there into w.v.
