@@ -8,6 +8,7 @@ import (
 	"sync/atomic"
 
 	"deflect/internal/par"
+	"deflect/internal/vmath"
 	"deflect/lensmodel"
 )
 
@@ -288,11 +289,21 @@ func prepare(c Component, f float64) brightFunc {
 		return func(v, x, y []float64) {
 			y = y[:len(x)]
 			v = v[:len(x)]
-			for i, xi := range x {
-				dx, dy := xi-c.X, y[i]-c.Y
-				xp := dx*s + dy*cs
-				yp := (-dx*cs + dy*s) / c.Q
-				v[i] += norm * math.Exp(k*(xp*xp+yp*yp))
+			var arg [256]float64
+			for lo := 0; lo < len(x); lo += len(arg) {
+				hi := min(lo+len(arg), len(x))
+				e := arg[:hi-lo]
+				for i := range e {
+					dx, dy := x[lo+i]-c.X, y[lo+i]-c.Y
+					xp := dx*s + dy*cs
+					yp := (-dx*cs + dy*s) / c.Q
+					e[i] = k * (xp*xp + yp*yp)
+				}
+				vmath.Exp(e, e)
+				vs := v[lo:hi]
+				for i, ev := range e {
+					vs[i] += norm * ev
+				}
 			}
 		}
 	default:

@@ -1,0 +1,119 @@
+// Code written for deflect: the AVX2/FMA exponential of exp.go.
+
+//go:build amd64
+
+#include "textflag.h"
+
+DATA vexpc<>+0(SB)/8, $0x3ff71547652b82fe // log2e = 1.4426950408889634
+DATA vexpc<>+8(SB)/8, $0x3fe62e42fee00000 // ln2hi = 0.6931471803691238
+DATA vexpc<>+16(SB)/8, $0x3dea39ef35793c76 // ln2lo = 1.9082149292705877e-10
+DATA vexpc<>+24(SB)/8, $0xc0861d999999999a // lo = -707.7
+DATA vexpc<>+32(SB)/8, $0x4086280000000000 // hi = 709.0
+DATA vexpc<>+40(SB)/8, $0x4338000000000000 // magic = 6755399441055744.0
+DATA vexpc<>+48(SB)/8, $0x7ff0000000000000 // inf = inf
+DATA vexpc<>+56(SB)/8, $0x3de6124613a86d09 // c13 = 1.6059043836821613e-10
+DATA vexpc<>+64(SB)/8, $0x3e21eed8eff8d898 // c12 = 2.08767569878681e-09
+DATA vexpc<>+72(SB)/8, $0x3e5ae64567f544e4 // c11 = 2.505210838544172e-08
+DATA vexpc<>+80(SB)/8, $0x3e927e4fb7789f5c // c10 = 2.755731922398589e-07
+DATA vexpc<>+88(SB)/8, $0x3ec71de3a556c734 // c9 = 2.7557319223985893e-06
+DATA vexpc<>+96(SB)/8, $0x3efa01a01a01a01a // c8 = 2.48015873015873e-05
+DATA vexpc<>+104(SB)/8, $0x3f2a01a01a01a01a // c7 = 0.0001984126984126984
+DATA vexpc<>+112(SB)/8, $0x3f56c16c16c16c17 // c6 = 0.001388888888888889
+DATA vexpc<>+120(SB)/8, $0x3f81111111111111 // c5 = 0.008333333333333333
+DATA vexpc<>+128(SB)/8, $0x3fa5555555555555 // c4 = 0.041666666666666664
+DATA vexpc<>+136(SB)/8, $0x3fc5555555555555 // c3 = 0.16666666666666666
+DATA vexpc<>+144(SB)/8, $0x3fe0000000000000 // c2 = 0.5
+DATA vexpc<>+152(SB)/8, $0x3ff0000000000000 // c1 = 1.0
+DATA vexpc<>+160(SB)/8, $0x3ff0000000000000 // c0 = 1.0
+GLOBL vexpc<>(SB), RODATA|NOPTR, $168
+
+// func cpuidex(leaf, sub uint32) (a, b, c, d uint32)
+TEXT ·cpuidex(SB), NOSPLIT, $0-24
+	MOVL leaf+0(FP), AX
+	MOVL sub+4(FP), CX
+	CPUID
+	MOVL AX, a+8(FP)
+	MOVL BX, b+12(FP)
+	MOVL CX, c+16(FP)
+	MOVL DX, d+20(FP)
+	RET
+
+// func xgetbv0() (eax uint32)
+TEXT ·xgetbv0(SB), NOSPLIT, $0-4
+	MOVL $0, CX
+	XGETBV
+	MOVL AX, eax+0(FP)
+	RET
+
+// func expAVX(dst, x *float64, n int)
+TEXT ·expAVX(SB), NOSPLIT, $0-24
+	MOVQ dst+0(FP), DI
+	MOVQ x+8(FP), SI
+	MOVQ n+16(FP), CX
+	VBROADCASTSD vexpc<>+0(SB), Y15
+	VBROADCASTSD vexpc<>+8(SB), Y14
+	VBROADCASTSD vexpc<>+16(SB), Y13
+	VBROADCASTSD vexpc<>+24(SB), Y12
+	VBROADCASTSD vexpc<>+32(SB), Y11
+	VBROADCASTSD vexpc<>+40(SB), Y10
+	VBROADCASTSD vexpc<>+48(SB), Y9
+	XORQ BX, BX
+	CMPQ BX, CX
+	JGE expdone
+exploop:
+	VMOVUPD (SI)(BX*8), Y0
+	// Clamp into [lo, hi] (a NaN becomes lo; fixed at the end).
+	VMAXPD Y12, Y0, Y1
+	VMINPD Y11, Y1, Y1
+	// k = round(x/ln 2); r = x − k ln2hi − k ln2lo.
+	VMULPD Y15, Y1, Y2
+	VROUNDPD $0, Y2, Y2
+	VFNMADD231PD Y14, Y2, Y1
+	VFNMADD231PD Y13, Y2, Y1
+	// e^r = Σ r^i/i!, i ≤ 13, by Horner.
+	VBROADCASTSD vexpc<>+56(SB), Y4
+	VBROADCASTSD vexpc<>+64(SB), Y5
+	VFMADD213PD Y5, Y1, Y4
+	VBROADCASTSD vexpc<>+72(SB), Y5
+	VFMADD213PD Y5, Y1, Y4
+	VBROADCASTSD vexpc<>+80(SB), Y5
+	VFMADD213PD Y5, Y1, Y4
+	VBROADCASTSD vexpc<>+88(SB), Y5
+	VFMADD213PD Y5, Y1, Y4
+	VBROADCASTSD vexpc<>+96(SB), Y5
+	VFMADD213PD Y5, Y1, Y4
+	VBROADCASTSD vexpc<>+104(SB), Y5
+	VFMADD213PD Y5, Y1, Y4
+	VBROADCASTSD vexpc<>+112(SB), Y5
+	VFMADD213PD Y5, Y1, Y4
+	VBROADCASTSD vexpc<>+120(SB), Y5
+	VFMADD213PD Y5, Y1, Y4
+	VBROADCASTSD vexpc<>+128(SB), Y5
+	VFMADD213PD Y5, Y1, Y4
+	VBROADCASTSD vexpc<>+136(SB), Y5
+	VFMADD213PD Y5, Y1, Y4
+	VBROADCASTSD vexpc<>+144(SB), Y5
+	VFMADD213PD Y5, Y1, Y4
+	VBROADCASTSD vexpc<>+152(SB), Y5
+	VFMADD213PD Y5, Y1, Y4
+	VBROADCASTSD vexpc<>+160(SB), Y5
+	VFMADD213PD Y5, Y1, Y4
+	// × 2^k: the integer k (from k + 1.5·2^52) into the exponent bits.
+	VADDPD Y10, Y2, Y2
+	VPSUBQ Y10, Y2, Y2
+	VPSLLQ $52, Y2, Y2
+	VPADDQ Y2, Y4, Y4
+	// x < lo: 0; x > hi: +Inf; NaN: x.
+	VCMPPD $1, Y12, Y0, Y6
+	VANDNPD Y4, Y6, Y4
+	VCMPPD $0x1e, Y11, Y0, Y6
+	VBLENDVPD Y6, Y9, Y4, Y4
+	VCMPPD $3, Y0, Y0, Y6
+	VBLENDVPD Y6, Y0, Y4, Y4
+	VMOVUPD Y4, (DI)(BX*8)
+	ADDQ $4, BX
+	CMPQ BX, CX
+	JLT exploop
+expdone:
+	VZEROUPPER
+	RET
