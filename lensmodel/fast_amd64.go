@@ -2,32 +2,13 @@
 
 package lensmodel
 
-//go:generate go run gen_fast.go
+import "deflect/internal/vmath"
 
-// cpuidex and xgetbv0 are in fast_amd64.s.
-func cpuidex(leaf, sub uint32) (a, b, c, d uint32)
-func xgetbv0() (eax uint32)
+//go:generate go run gen_fast.go
 
 // haveAVX reports whether the CPU and the operating system support AVX2 and
 // FMA, for the kernels of fast_amd64.s.
-var haveAVX = detectAVX()
-
-func detectAVX() bool {
-	maxLeaf, _, _, _ := cpuidex(0, 0)
-	if maxLeaf < 7 {
-		return false
-	}
-	_, _, c1, _ := cpuidex(1, 0)
-	const fma, osxsave, avx = 1 << 12, 1 << 27, 1 << 28
-	if c1&fma == 0 || c1&osxsave == 0 || c1&avx == 0 {
-		return false
-	}
-	if xgetbv0()&6 != 6 { // the OS saves XMM and YMM state
-		return false
-	}
-	_, b7, _, _ := cpuidex(7, 0)
-	return b7&(1<<5) != 0 // AVX2
-}
+var haveAVX = vmath.HaveAVX2FMA()
 
 // sieDeflectAVX adds to ax[i], ay[i] the deflection of the isothermal
 // ellipsoid described by p at (x[i], y[i]) for 0 ≤ i < n, n a multiple of 8

@@ -186,24 +186,6 @@ DATA lmk<>+1424(SB)/8, $0x3fae1e1e1e1e1e1e
 DATA lmk<>+1432(SB)/8, $0x3fae1e1e1e1e1e1e
 GLOBL lmk<>(SB), RODATA|NOPTR, $1440
 
-// func cpuidex(leaf, sub uint32) (a, b, c, d uint32)
-TEXT ·cpuidex(SB), NOSPLIT, $0-24
-	MOVL leaf+0(FP), AX
-	MOVL sub+4(FP), CX
-	CPUID
-	MOVL AX, a+8(FP)
-	MOVL BX, b+12(FP)
-	MOVL CX, c+16(FP)
-	MOVL DX, d+20(FP)
-	RET
-
-// func xgetbv0() (eax uint32)
-TEXT ·xgetbv0(SB), NOSPLIT, $0-4
-	MOVL $0, CX
-	XGETBV
-	MOVL AX, eax+0(FP)
-	RET
-
 // func sieDeflectAVX(p *sieParams, ax, ay, x, y *float64, n int)
 TEXT ·sieDeflectAVX(SB), $10656-48
 	MOVQ p+0(FP), R8

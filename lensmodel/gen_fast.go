@@ -188,7 +188,6 @@ func main() {
 		}
 	}
 	fmt.Fprintf(&b, "GLOBL lmk<>(SB), RODATA|NOPTR, $%d\n\n", 32*len(consts))
-	b.WriteString(cpuid)
 	sie()
 	nfw()
 	shear()
@@ -196,26 +195,6 @@ func main() {
 		log.Fatal(err)
 	}
 }
-
-const cpuid = `// func cpuidex(leaf, sub uint32) (a, b, c, d uint32)
-TEXT ·cpuidex(SB), NOSPLIT, $0-24
-	MOVL leaf+0(FP), AX
-	MOVL sub+4(FP), CX
-	CPUID
-	MOVL AX, a+8(FP)
-	MOVL BX, b+12(FP)
-	MOVL CX, c+16(FP)
-	MOVL DX, d+20(FP)
-	RET
-
-// func xgetbv0() (eax uint32)
-TEXT ·xgetbv0(SB), NOSPLIT, $0-4
-	MOVL $0, CX
-	XGETBV
-	MOVL AX, eax+0(FP)
-	RET
-
-`
 
 // local loads the group's four points and rotates them into the frame
 // (rows 0–3: x0, y0, sin PA, cos PA): x' in r2, y' in r3 (r0, r1 clobbered).

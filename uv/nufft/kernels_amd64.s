@@ -4,24 +4,6 @@
 
 #include "textflag.h"
 
-// func cpuidex(leaf, sub uint32) (a, b, c, d uint32)
-TEXT ·cpuidex(SB), NOSPLIT, $0-24
-	MOVL leaf+0(FP), AX
-	MOVL sub+4(FP), CX
-	CPUID
-	MOVL AX, a+8(FP)
-	MOVL BX, b+12(FP)
-	MOVL CX, c+16(FP)
-	MOVL DX, d+20(FP)
-	RET
-
-// func xgetbv0() (eax uint32)
-TEXT ·xgetbv0(SB), NOSPLIT, $0-4
-	MOVL $0, CX
-	XGETBV
-	MOVL AX, eax+0(FP)
-	RET
-
 TEXT ·interpLoopW2(SB), NOSPLIT, $64-72
 	MOVQ key+40(FP), R8
 	MOVQ z+48(FP), R11
