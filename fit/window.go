@@ -49,6 +49,28 @@ func (w window) Centre(k int) (x, y float64) {
 	return x - w.dx, y - w.dy
 }
 
+// Centres stores the centres of all pixels, the values of Centre, in x and
+// y (w.n² values each), one grid coordinate computation per row and column.
+func (w window) Centres(x, y []float64) {
+	n := w.n
+	for j := range n {
+		_, yj := w.g.XY(w.i0, w.j0+j)
+		yj -= w.dy
+		xs, ys := x[j*n:(j+1)*n], y[j*n:(j+1)*n]
+		if j == 0 {
+			for i := range xs {
+				xi, _ := w.g.XY(w.i0+i, w.j0)
+				xs[i] = xi - w.dx
+			}
+		} else {
+			copy(xs, x[:n])
+		}
+		for i := range ys {
+			ys[i] = yj
+		}
+	}
+}
+
 // renderWindow returns the smallest square window of g (padded by three
 // pixels) containing every pixel whose centre traces, through lens, to
 // within a component's extent (plus the pixel's own footprint) of an

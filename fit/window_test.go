@@ -5,6 +5,7 @@ import (
 	"testing"
 
 	"deflect/source"
+	"deflect/uv"
 )
 
 // TestWindowedRenderingMatchesFullGrid compares the likelihood's model
@@ -45,4 +46,17 @@ func TestWindowedRenderingMatchesFullGrid(t *testing.T) {
 		t.Errorf("window %+v covers the whole %d² grid; want a smaller one for a compact source", w, l.Grid.N)
 	}
 	t.Logf("window %d² of the %d² grid", w.n, l.Grid.N)
+}
+
+// TestWindowCentres checks that the window's list of centres gives the
+// values of Centre, bit for bit.
+func TestWindowCentres(t *testing.T) {
+	w := window{g: uv.Grid{N: 64, Pixel: 0.05, X0: 0.3, Y0: -0.2}, i0: 5, j0: 9, n: 32, dx: 0.013, dy: -0.007}
+	x, y := make([]float64, w.n*w.n), make([]float64, w.n*w.n)
+	w.Centres(x, y)
+	for k := range x {
+		if cx, cy := w.Centre(k); x[k] != cx || y[k] != cy {
+			t.Fatalf("pixel %d: Centres (%v, %v), Centre (%v, %v)", k, x[k], y[k], cx, cy)
+		}
+	}
 }

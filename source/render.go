@@ -15,7 +15,9 @@ import (
 // Pixels is a square sky grid of Size()×Size() pixels, PixelSize() arcsec on
 // a side, whose pixel at flat index k is centred at Centre(k) arcsec
 // (x east, y north). uv.Grid implements it; images are stored with k = j·N + i
-// as in uv.Grid.
+// as in uv.Grid. A Pixels may also have a method Centres(x, y []float64)
+// that stores the centres of all pixels at once, the values of Centre;
+// Render then uses it.
 type Pixels interface {
 	Size() int
 	PixelSize() float64
@@ -134,8 +136,12 @@ func (c *centres) trace(r *renderer) {
 		c.v = make([]float64, m)
 	}
 	c.x, c.y, c.bx, c.by, c.v = c.x[:m], c.y[:m], c.bx[:m], c.by[:m], c.v[:m]
-	for k := range m {
-		c.x[k], c.y[k] = r.pix.Centre(k)
+	if cf, ok := r.pix.(interface{ Centres(x, y []float64) }); ok {
+		cf.Centres(c.x, c.y)
+	} else {
+		for k := range m {
+			c.x[k], c.y[k] = r.pix.Centre(k)
+		}
 	}
 	r.trace(c.bx, c.by, c.x, c.y)
 	par.Ranges(m, 1024, func(_, lo, hi int) {
@@ -156,6 +162,7 @@ func (r *renderer) smoothRow(out []float64, done []bool, j int) {
 	out, done = out[:n], done[:n]
 	done[0], done[n-1] = false, false
 	area, area24, tol, floor := r.area, r.area24, r.tol, r.floor
+	info := r.info
 	for i := 1; i < n-1; i++ {
 		done[i] = false
 		vc := v1[i]
@@ -190,7 +197,7 @@ func (r *renderer) smoothRow(out []float64, done []bool, j int) {
 			continue
 		}
 		ok := true
-		for _, ci := range r.info {
+		for _, ci := range info {
 			dx, dy := bx-ci.x, by-ci.y
 			if ext2 > ci.scale2 && 4*ext2 > dx*dx+dy*dy {
 				ok = false
@@ -198,7 +205,7 @@ func (r *renderer) smoothRow(out []float64, done []bool, j int) {
 			}
 		}
 		if ok {
-			out[i] = area * (vc + (dxx+dyy)/24)
+			out[i] = area*vc + (dxx+dyy)*area24
 			done[i] = true
 		}
 	}
