@@ -127,7 +127,17 @@ func (l Lens) DeflectPoints(ax, ay, x, y []float64) {
 // must have the same length; bx and by may not alias x or y.
 func (l Lens) Trace(bx, by, x, y []float64) {
 	checkLengths("Trace", len(x), len(bx), len(by), len(y))
-	evs := l.evaluators()
+	traceWith(l.evaluators(), bx, by, x, y)
+}
+
+// Trace is Lens.Trace with the components prepared once, the same values.
+func (p preparedLens) Trace(bx, by, x, y []float64) {
+	checkLengths("Trace", len(x), len(bx), len(by), len(y))
+	traceWith(p.e, bx, by, x, y)
+}
+
+// traceWith is Trace with the evaluators evs.
+func traceWith(evs []evaluator, bx, by, x, y []float64) {
 	parallel(len(x), func(lo, hi int) {
 		dx, dy := bx[lo:hi], by[lo:hi]
 		clear(dx)
@@ -265,7 +275,9 @@ func (l Lens) prepare() evaluator { return lensEval(l.evaluators()) }
 // once, so that evaluating it point by point, as image finders and contour
 // tracers do, costs what the batch methods cost per point. It reflects l at
 // the time of the call: after changing a component, prepare again. The
-// result is safe for concurrent use.
+// result is safe for concurrent use. It also has the method
+// Trace(bx, by, x, y []float64) of Lens, with the same values, for batch
+// code that reaches it through an interface assertion.
 func (l Lens) Prepare() Mass { return preparedLens{lensEval(l.evaluators())} }
 
 // preparedLens is the Mass returned by Lens.Prepare.

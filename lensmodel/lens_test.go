@@ -209,3 +209,26 @@ func TestLensValidate(t *testing.T) {
 	}()
 	bad.DeflectPoints(make([]float64, 2), make([]float64, 3), make([]float64, 2), make([]float64, 2))
 }
+
+// TestPreparedTrace checks that the prepared lens traces as the lens does,
+// bit for bit.
+func TestPreparedTrace(t *testing.T) {
+	l := Lens{SIE{X: 0.1, ThetaE: 1, Q: 0.7, PA: 30}, NFW{KappaS: 0.2, Rs: 5, Q: 0.9, PA: 10}, Shear{Gamma: 0.05, Angle: 20}}
+	p, ok := l.Prepare().(interface{ Trace(bx, by, x, y []float64) })
+	if !ok {
+		t.Fatal("the prepared lens has no Trace method")
+	}
+	n := 3*chunkSize + 13
+	x, y := make([]float64, n), make([]float64, n)
+	for i := range x {
+		x[i], y[i] = float64(i%97)*0.031-1.5, float64(i%89)*0.029-1.3
+	}
+	ax, ay, bx, by := make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n)
+	l.Trace(ax, ay, x, y)
+	p.Trace(bx, by, x, y)
+	for i := range x {
+		if ax[i] != bx[i] || ay[i] != by[i] {
+			t.Fatalf("point %d: Lens.Trace (%v, %v), prepared (%v, %v)", i, ax[i], ay[i], bx[i], by[i])
+		}
+	}
+}

@@ -272,7 +272,7 @@ func newRenderer(pix Pixels, lens lensmodel.Mass, src Source, opt RenderOptions)
 	switch l := lens.(type) {
 	case nil:
 		r.trace = func(bx, by, x, y []float64) { copy(bx, x); copy(by, y) }
-	case lensmodel.Lens:
+	case interface{ Trace(bx, by, x, y []float64) }: // Lens, Lens.Prepare
 		r.trace = l.Trace
 	default:
 		r.trace = lensmodel.Lens{lens}.Trace
