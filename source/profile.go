@@ -5,8 +5,6 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mathext"
-
-	"deflect/internal/vmath"
 )
 
 // Component is one parametric part of a source, described in the source
@@ -219,11 +217,7 @@ func (p PreparedSersic) addBrightness(v, x, y []float64, f float64) {
 			}
 			e[i] = -b * (t - 1)
 		}
-		vmath.Exp(e, e)
-		vs := v[lo:hi]
-		for i, ev := range e {
-			vs[i] += a * ev
-		}
+		addExp(v[lo:hi], e, a)
 	}
 }
 

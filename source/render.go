@@ -198,8 +198,7 @@ func (r *renderer) smoothRow(out []float64, done []bool, j int) {
 		}
 		ok := true
 		for _, ci := range info {
-			dx, dy := bx-ci.x, by-ci.y
-			if ext2 > ci.scale2 && 4*ext2 > dx*dx+dy*dy {
+			if ci.unresolved(ext2, bx, by) {
 				ok = false
 				break
 			}
@@ -217,6 +216,22 @@ type brightFunc func(v, x, y []float64)
 
 type compInfo struct {
 	x, y, scale, scale2 float64 // scale2 = scale²
+}
+
+// unresolved reports whether a footprint of squared width ext2 traced to
+// (bx, by) is wider than max(Scale, d/2) of the component at distance d.
+func (c compInfo) unresolved(ext2, bx, by float64) bool {
+	dx, dy := bx-c.x, by-c.y
+	return ext2 > c.scale2 && 4*ext2 > dx*dx+dy*dy
+}
+
+// addExp sets arg[i] = e^{arg[i]} (vmath.Exp) and adds a times it to v[i].
+func addExp(v, arg []float64, a float64) {
+	vmath.Exp(arg, arg)
+	v = v[:len(arg)]
+	for i, e := range arg {
+		v[i] += a * e
+	}
 }
 
 type renderer struct {
@@ -306,11 +321,7 @@ func prepare(c Component, f float64) brightFunc {
 					yp := (-dx*cs + dy*s) / c.Q
 					e[i] = k * (xp*xp + yp*yp)
 				}
-				vmath.Exp(e, e)
-				vs := v[lo:hi]
-				for i, ev := range e {
-					vs[i] += norm * ev
-				}
+				addExp(v[lo:hi], e, norm)
 			}
 		}
 	default:
@@ -463,8 +474,7 @@ func (w *worker) unresolved(k int, ce cell) bool {
 	}
 	ext2 *= 4 // (2 max |Δβ|)²
 	for _, c := range w.r.info {
-		dx, dy := ce.bx-c.x, ce.by-c.y
-		if ext2 > c.scale2 && 4*ext2 > dx*dx+dy*dy {
+		if c.unresolved(ext2, ce.bx, ce.by) {
 			return true
 		}
 	}
